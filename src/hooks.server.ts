@@ -1,0 +1,52 @@
+import { building } from '$app/environment';
+import type { Handle, HandleServerError, ServerInit } from '@sveltejs/kit';
+import { sequence } from '@sveltejs/kit/hooks';
+import { randomUUID } from 'node:crypto';
+import { readSession } from '$lib/server/auth/session';
+import { closeDatabase, openDatabase } from '$lib/server/db';
+import { DataDirLockedError } from '$lib/server/db/lock';
+import { startMail, stopMail } from '$lib/server/mail/service';
+
+export const init: ServerInit = async () => {
+	if (building) return;
+	try {
+		await openDatabase();
+	} catch (error) {
+		if (error instanceof DataDirLockedError) {
+			console.error(error.message);
+			process.exit(1);
+		}
+		throw error;
+	}
+	await startMail();
+	process.once('sveltekit:shutdown', () => {
+		void stopMail().finally(() => closeDatabase());
+	});
+};
+
+const requestId: Handle = ({ event, resolve }) => {
+	event.locals.requestId = event.request.headers.get('x-request-id') ?? randomUUID();
+	return resolve(event);
+};
+
+const session: Handle = async ({ event, resolve }) => {
+	const { user, session } = await readSession(event.cookies, event.url);
+	event.locals.user = user;
+	event.locals.session = session;
+	return resolve(event);
+};
+
+const securityHeaders: Handle = async ({ event, resolve }) => {
+	const response = await resolve(event);
+	response.headers.set('x-content-type-options', 'nosniff');
+	response.headers.set('referrer-policy', 'strict-origin-when-cross-origin');
+	response.headers.set('x-frame-options', 'DENY');
+	return response;
+};
+
+export const handle = sequence(requestId, session, securityHeaders);
+
+export const handleError: HandleServerError = ({ error, event, status }) => {
+	if (status >= 500) console.error(`[${event.locals.requestId}]`, error);
+	return { message: status >= 500 ? 'Something went wrong on our side.' : 'Not found.' };
+};

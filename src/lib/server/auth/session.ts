@@ -1,0 +1,73 @@
+import { and, eq, isNull } from 'drizzle-orm';
+import type { Cookies } from '@sveltejs/kit';
+import { db } from '../db';
+import { roles as rolesTable, users, type Role } from '../db/schema';
+import { lucia, sessionCookieSecure, type SessionUser } from './lucia';
+
+export async function rolesOf(userId: string): Promise<Role[]> {
+	const rows = await db()
+		.select({ role: rolesTable.role })
+		.from(rolesTable)
+		.where(eq(rolesTable.userId, userId));
+	return rows.map((r) => r.role).sort();
+}
+
+/** Starts a session for an active user and sets its cookie. */
+export async function startSession(userId: string, cookies: Cookies, url: URL): Promise<void> {
+	const active = await db()
+		.select({ id: users.id })
+		.from(users)
+		.where(and(eq(users.id, userId), isNull(users.disabledAt)));
+	if (active.length === 0) throw new Error('This account is disabled.');
+	const session = await lucia().createSession(userId, {});
+	const cookie = lucia().createSessionCookie(session.id);
+	cookies.set(cookie.name, cookie.value, {
+		...cookie.attributes,
+		path: '/',
+		httpOnly: true,
+		sameSite: 'lax',
+		secure: sessionCookieSecure(url)
+	});
+}
+
+export async function endSession(sessionId: string, cookies: Cookies, url: URL): Promise<void> {
+	await lucia().invalidateSession(sessionId);
+	const blank = lucia().createBlankSessionCookie();
+	cookies.set(blank.name, blank.value, {
+		...blank.attributes,
+		path: '/',
+		httpOnly: true,
+		sameSite: 'lax',
+		secure: sessionCookieSecure(url)
+	});
+}
+
+/** Reads the session cookie once per request; refreshes it when lucia extends the session. */
+export async function readSession(
+	cookies: Cookies,
+	url: URL
+): Promise<{ user: SessionUser | null; session: App.Locals['session'] }> {
+	const sessionId = cookies.get(lucia().sessionCookieName);
+	if (!sessionId) return { user: null, session: null };
+	const { session, user } = await lucia().validateSession(sessionId);
+	if (!session || !user || user.disabledAt) {
+		if (session) await lucia().invalidateSession(session.id);
+		const blank = lucia().createBlankSessionCookie();
+		cookies.set(blank.name, blank.value, { ...blank.attributes, path: '/' });
+		return { user: null, session: null };
+	}
+	if (session.fresh) {
+		const cookie = lucia().createSessionCookie(session.id);
+		cookies.set(cookie.name, cookie.value, {
+			...cookie.attributes,
+			path: '/',
+			httpOnly: true,
+			sameSite: 'lax',
+			secure: sessionCookieSecure(url)
+		});
+	}
+	return {
+		session,
+		user: { id: user.id, email: user.email, name: user.name, roles: await rolesOf(user.id) }
+	};
+}
