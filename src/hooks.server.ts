@@ -19,6 +19,10 @@ export const init: ServerInit = async () => {
 		throw error;
 	}
 	await startMail();
+	if (process.env.TIDEWARD_DEMO === '1') {
+		const { ensureDemoData, printDemoBanner } = await import('$lib/server/demo');
+		printDemoBanner(await ensureDemoData(), process.env.DATA_DIR ?? './data/tideward');
+	}
 	process.once('sveltekit:shutdown', () => {
 		void stopMail().finally(() => closeDatabase());
 	});

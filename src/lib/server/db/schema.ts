@@ -15,8 +15,8 @@ import {
 	uniqueIndex
 } from 'drizzle-orm/pg-core';
 
-export const ROLES = ['supporter', 'educator', 'tracker', 'development', 'admin'] as const;
-export type Role = (typeof ROLES)[number];
+import { ROLES, type Role } from '../../roles';
+export { ROLES, type Role };
 
 const timestamps = {
 	createdAt: timestamp('created_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow(),

@@ -1,4 +1,5 @@
 import { randomUUID } from 'node:crypto';
+import { mailFrom } from '../config';
 import type { Executor } from '../db';
 import { outbox } from '../db/schema';
 
@@ -30,9 +31,18 @@ export async function enqueueMail(tx: Executor, mail: OutgoingMail): Promise<boo
 			html: mail.html,
 			text: mail.text,
 			headers: mail.headers ?? {},
-			messageId: `<${randomUUID()}@tideward.test>`
+			messageId: newMessageId()
 		})
 		.onConflictDoNothing({ target: outbox.dedupeKey })
 		.returning({ id: outbox.id });
 	return rows.length > 0;
+}
+
+/**
+ * A Message-ID on the sender's own domain, fixed when the row is queued so that every attempt
+ * sends the same ID and a repeat after a crash can be recognised as a copy.
+ */
+export function newMessageId(from: string = mailFrom()): string {
+	const domain = /@([^\s>@]+)>?\s*$/.exec(from)?.[1] ?? 'tideward.test';
+	return `<${randomUUID()}@${domain}>`;
 }

@@ -1,0 +1,53 @@
+import { z } from 'zod';
+
+export type FieldErrors = Record<string, string>;
+
+/** Reads a form into a zod schema; returns the parsed data or a message per field. */
+export function parseForm<S extends z.ZodType>(
+	schema: S,
+	form: FormData
+): { ok: true; data: z.infer<S> } | { ok: false; errors: FieldErrors; values: Record<string, string> } {
+	const values: Record<string, string> = {};
+	for (const [key, value] of form) {
+		if (typeof value === 'string' && !key.toLowerCase().includes('password')) values[key] = value;
+	}
+	const raw: Record<string, FormDataEntryValue | FormDataEntryValue[]> = {};
+	for (const key of new Set(form.keys())) {
+		const all = form.getAll(key);
+		raw[key] = all.length > 1 ? all : all[0];
+	}
+	const result = schema.safeParse(raw);
+	if (result.success) return { ok: true, data: result.data };
+	const errors: FieldErrors = {};
+	for (const issue of result.error.issues) {
+		const key = String(issue.path[0] ?? 'form');
+		errors[key] ??= issue.message;
+	}
+	return { ok: false, errors, values };
+}
+
+export const email = z
+	.string({ error: 'Enter your e-mail address.' })
+	.trim()
+	.min(1, 'Enter your e-mail address.')
+	.max(254, 'That e-mail address is too long.')
+	.pipe(z.email({ error: 'Enter an e-mail address like name@example.org.' }));
+
+export const name = z
+	.string({ error: 'Enter a name.' })
+	.trim()
+	.min(1, 'Enter a name.')
+	.max(120, 'Keep the name under 120 characters.');
+
+export const newPassword = z
+	.string({ error: 'Choose a password.' })
+	.min(10, 'Use at least 10 characters.')
+	.max(200, 'Keep the password under 200 characters.');
+
+/** A local path to return to after signing in; anything else falls back to the default. */
+export function safeRedirect(target: string | null | undefined, fallback: string): string {
+	if (!target || !target.startsWith('/') || target.startsWith('//') || target.startsWith('/\\')) {
+		return fallback;
+	}
+	return target;
+}

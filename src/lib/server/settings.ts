@@ -1,0 +1,95 @@
+import { eq } from 'drizzle-orm';
+import { audit } from './audit';
+import { db, type Executor } from './db';
+import { organisationSettings, type DistanceUnit } from './db/schema';
+
+export interface OrganisationSettings {
+	displayName: string;
+	legalName: string;
+	taxId: string;
+	postalAddress: string;
+	hotlineNumber: string;
+	hotlineName: string;
+	currency: string;
+	distanceUnit: DistanceUnit;
+	/** Null until staff first save the settings. */
+	updatedAt: Date | null;
+	updatedBy: string | null;
+}
+
+export type OrganisationSettingsValues = Omit<OrganisationSettings, 'updatedAt' | 'updatedBy'>;
+
+const SETTINGS_ID = 1;
+
+// A fresh install has no row until an admin saves one; pages still need a name to show.
+export const DEFAULT_ORGANISATION_SETTINGS: Readonly<OrganisationSettings> = Object.freeze({
+	displayName: 'Tideward',
+	legalName: '',
+	taxId: '',
+	postalAddress: '',
+	hotlineNumber: '',
+	hotlineName: '',
+	currency: 'usd',
+	distanceUnit: 'km',
+	updatedAt: null,
+	updatedBy: null
+});
+
+const columns = {
+	displayName: organisationSettings.displayName,
+	legalName: organisationSettings.legalName,
+	taxId: organisationSettings.taxId,
+	postalAddress: organisationSettings.postalAddress,
+	hotlineNumber: organisationSettings.hotlineNumber,
+	hotlineName: organisationSettings.hotlineName,
+	currency: organisationSettings.currency,
+	distanceUnit: organisationSettings.distanceUnit,
+	updatedAt: organisationSettings.updatedAt,
+	updatedBy: organisationSettings.updatedBy
+};
+
+/** The organisation's settings, or the defaults when none have been saved yet. */
+export async function getOrganisationSettings(
+	executor: Executor = db()
+): Promise<OrganisationSettings> {
+	const [row] = await executor
+		.select(columns)
+		.from(organisationSettings)
+		.where(eq(organisationSettings.id, SETTINGS_ID));
+	return row ?? { ...DEFAULT_ORGANISATION_SETTINGS };
+}
+
+/**
+ * Saves the settings (creating the row on first save) and records who changed which fields in
+ * the audit log. The caller validates `values` and runs this inside its transaction.
+ */
+export async function updateOrganisationSettings(
+	tx: Executor,
+	values: Partial<OrganisationSettingsValues>,
+	actorId: string | null
+): Promise<OrganisationSettings> {
+	const before = await getOrganisationSettings(tx);
+	const next: OrganisationSettingsValues = {
+		displayName: values.displayName ?? before.displayName,
+		legalName: values.legalName ?? before.legalName,
+		taxId: values.taxId ?? before.taxId,
+		postalAddress: values.postalAddress ?? before.postalAddress,
+		hotlineNumber: values.hotlineNumber ?? before.hotlineNumber,
+		hotlineName: values.hotlineName ?? before.hotlineName,
+		currency: values.currency ?? before.currency,
+		distanceUnit: values.distanceUnit ?? before.distanceUnit
+	};
+	const changed = (Object.keys(next) as (keyof OrganisationSettingsValues)[]).filter(
+		(key) => next[key] !== before[key]
+	);
+	const stamp = { updatedAt: new Date(), updatedBy: actorId };
+	const [row] = await tx
+		.insert(organisationSettings)
+		.values({ id: SETTINGS_ID, ...next, ...stamp })
+		.onConflictDoUpdate({ target: organisationSettings.id, set: { ...next, ...stamp } })
+		.returning(columns);
+	await audit(tx, actorId, 'organisation_settings.updated', 'organisation_settings', {
+		changed: Object.fromEntries(changed.map((key) => [key, { from: before[key], to: next[key] }]))
+	});
+	return row;
+}

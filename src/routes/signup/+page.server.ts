@@ -1,0 +1,50 @@
+import { fail, redirect } from '@sveltejs/kit';
+import { z } from 'zod';
+import { createSupporter, EmailTaken, sendSignInLink } from '$lib/server/auth/accounts';
+import { consumeMailAllowance, TooManyAttempts } from '$lib/server/auth/rate-limit';
+import { startSession } from '$lib/server/auth/session';
+import { email, name, newPassword, parseForm } from '$lib/server/forms';
+import type { Actions, PageServerLoad } from './$types';
+
+const signupForm = z.object({
+	name,
+	email,
+	password: z.union([z.literal(''), newPassword]).optional()
+});
+
+export const load: PageServerLoad = ({ locals }) => {
+	if (locals.user) redirect(303, '/account');
+};
+
+export const actions: Actions = {
+	default: async ({ request, cookies, url, getClientAddress }) => {
+		const parsed = parseForm(signupForm, await request.formData());
+		if (!parsed.ok) return fail(400, { errors: parsed.errors, values: parsed.values });
+		const { name, email, password } = parsed.data;
+		if (!password) {
+			try {
+				await consumeMailAllowance(getClientAddress());
+			} catch (error) {
+				if (error instanceof TooManyAttempts) {
+					return fail(429, { message: error.message, values: parsed.values });
+				}
+				throw error;
+			}
+		}
+		let userId: string;
+		try {
+			userId = await createSupporter({ name, email, password: password || undefined });
+		} catch (error) {
+			if (error instanceof EmailTaken) {
+				return fail(400, { errors: { email: error.message }, values: parsed.values });
+			}
+			throw error;
+		}
+		if (password) {
+			await startSession(userId, cookies, url);
+			redirect(303, '/account');
+		}
+		await sendSignInLink(email);
+		return { sent: `Welcome! We e-mailed a sign-in link to ${email}.` };
+	}
+};

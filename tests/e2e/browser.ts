@@ -1,0 +1,76 @@
+import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core';
+import { afterAll, beforeAll, inject } from 'vitest';
+import { DEMO_PASSWORD, DEMO_USERS } from '$lib/server/db/seed/demo';
+import type { Role } from '$lib/roles';
+
+export const baseURL = () => inject('baseURL');
+
+/** One Chromium per test file; each test takes a fresh context (its own cookies). */
+export function useBrowser(): () => Browser {
+	let browser: Browser | undefined;
+	beforeAll(async () => {
+		browser = await chromium.launch({
+			executablePath: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
+			args: [
+				'--headless',
+				'--no-sandbox',
+				'--disable-gpu',
+				'--disable-background-networking',
+				'--disable-component-update',
+				'--disable-sync',
+				'--no-first-run'
+			]
+		});
+	});
+	afterAll(async () => {
+		await browser?.close();
+	});
+	return () => {
+		if (!browser) throw new Error('Chromium has not started.');
+		return browser;
+	};
+}
+
+export async function newPage(browser: Browser): Promise<{ context: BrowserContext; page: Page }> {
+	const context = await browser.newContext({ baseURL: baseURL() });
+	return { context, page: await context.newPage() };
+}
+
+/** The demo account that holds exactly this one role. */
+export function demoUser(role: Role) {
+	const user = DEMO_USERS.find((u) => u.roles.length === 1 && u.roles[0] === role);
+	if (!user) throw new Error(`The demo scenario has no user with only the ${role} role.`);
+	return user;
+}
+
+/** Page object for the sign-in page. */
+export class SignInPage {
+	constructor(private readonly page: Page) {}
+
+	async open(redirectTo?: string) {
+		await this.page.goto(redirectTo ? `/signin?redirectTo=${encodeURIComponent(redirectTo)}` : '/signin');
+	}
+
+	async withPassword(email: string, password = DEMO_PASSWORD) {
+		const form = this.page.locator('form[action="?/password"]');
+		await form.getByLabel('E-mail').fill(email);
+		await form.getByLabel('Password').fill(password);
+		await Promise.all([
+			this.page.waitForURL((url) => url.pathname !== '/signin', { timeout: 15_000 }).catch(() => undefined),
+			form.getByRole('button', { name: 'Sign in' }).click()
+		]);
+	}
+
+	async askForLink(email: string) {
+		const form = this.page.locator('form[action="?/link"]');
+		await form.getByLabel('E-mail').fill(email);
+		await form.getByRole('button', { name: 'E-mail me a link' }).click();
+		await this.page.getByRole('status').waitFor();
+	}
+}
+
+export async function signIn(page: Page, email: string): Promise<void> {
+	const signin = new SignInPage(page);
+	await signin.open();
+	await signin.withPassword(email);
+}
