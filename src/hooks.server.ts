@@ -2,6 +2,7 @@ import { building } from '$app/environment';
 import type { Handle, HandleServerError, ServerInit } from '@sveltejs/kit';
 import { sequence } from '@sveltejs/kit/hooks';
 import { randomUUID } from 'node:crypto';
+import { ensureFirstAdmin } from '$lib/server/auth/bootstrap';
 import { readSession } from '$lib/server/auth/session';
 import { closeDatabase, openDatabase } from '$lib/server/db';
 import { DataDirLockedError } from '$lib/server/db/lock';
@@ -18,10 +19,15 @@ export const init: ServerInit = async () => {
 		}
 		throw error;
 	}
-	await startMail();
+	const mail = await startMail();
+	await ensureFirstAdmin();
 	if (process.env.TIDEWARD_DEMO === '1') {
 		const { ensureDemoData, printDemoBanner } = await import('$lib/server/demo');
-		printDemoBanner(await ensureDemoData(), process.env.DATA_DIR ?? './data/tideward');
+		printDemoBanner(
+			await ensureDemoData(),
+			process.env.DATA_DIR ?? './data/tideward',
+			mail.catcherPort
+		);
 	}
 	process.once('sveltekit:shutdown', () => {
 		void stopMail().finally(() => closeDatabase());

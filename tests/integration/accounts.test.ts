@@ -182,3 +182,15 @@ describe('staff administration', () => {
 		await expect(setAccountDisabled(admin.id, admin.id, true)).rejects.toThrow(/your own account/);
 	});
 });
+
+describe('first administrator', () => {
+	it('is created once from FIRST_ADMIN_EMAIL, with a link to set a password', async () => {
+		const { ensureFirstAdmin } = await import('$lib/server/auth/bootstrap');
+		await db().delete(roles).where(eq(roles.role, 'admin'));
+		const link = await ensureFirstAdmin('founder@example.test');
+		expect(link).toMatch(/\/invite\/[a-z0-9]+$/);
+		expect(await ensureFirstAdmin('someone.else@example.test')).toBeNull();
+		const id = await setPasswordWithToken(link!.split('/').at(-1)!, 'invite', 'founder password 1');
+		expect(await checkPassword('founder@example.test', 'founder password 1')).toBe(id);
+	});
+});

@@ -6,7 +6,9 @@ export type FieldErrors = Record<string, string>;
 export function parseForm<S extends z.ZodType>(
 	schema: S,
 	form: FormData
-): { ok: true; data: z.infer<S> } | { ok: false; errors: FieldErrors; values: Record<string, string> } {
+):
+	| { ok: true; data: z.infer<S>; values: Record<string, string> }
+	| { ok: false; errors: FieldErrors; values: Record<string, string> } {
 	const values: Record<string, string> = {};
 	for (const [key, value] of form) {
 		if (typeof value === 'string' && !key.toLowerCase().includes('password')) values[key] = value;
@@ -17,7 +19,7 @@ export function parseForm<S extends z.ZodType>(
 		raw[key] = all.length > 1 ? all : all[0];
 	}
 	const result = schema.safeParse(raw);
-	if (result.success) return { ok: true, data: result.data };
+	if (result.success) return { ok: true, data: result.data, values };
 	const errors: FieldErrors = {};
 	for (const issue of result.error.issues) {
 		const key = String(issue.path[0] ?? 'form');
@@ -50,4 +52,9 @@ export function safeRedirect(target: string | null | undefined, fallback: string
 		return fallback;
 	}
 	return target;
+}
+
+/** A message for one field, typed like parseForm's so pages read both the same way. */
+export function fieldError(field: string, message: string): FieldErrors {
+	return { [field]: message };
 }

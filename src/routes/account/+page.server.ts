@@ -2,7 +2,7 @@ import { fail } from '@sveltejs/kit';
 import { z } from 'zod';
 import { changePassword } from '$lib/server/auth/accounts';
 import { requireRoles } from '$lib/server/auth/roles';
-import { newPassword, parseForm } from '$lib/server/forms';
+import { newPassword, parseForm, fieldError } from '$lib/server/forms';
 import type { Actions, PageServerLoad } from './$types';
 
 const passwordForm = z
@@ -20,7 +20,7 @@ export const actions: Actions = {
 		const parsed = parseForm(passwordForm, await event.request.formData());
 		if (!parsed.ok) return fail(400, { errors: parsed.errors });
 		if (!(await changePassword(user.id, parsed.data.current, parsed.data.password))) {
-			return fail(400, { errors: { current: 'That is not your current password.' } });
+			return fail(400, { errors: fieldError('current', 'That is not your current password.') });
 		}
 		return { saved: 'Your password is changed.' };
 	}

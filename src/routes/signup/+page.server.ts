@@ -3,7 +3,7 @@ import { z } from 'zod';
 import { createSupporter, EmailTaken, sendSignInLink } from '$lib/server/auth/accounts';
 import { consumeMailAllowance, TooManyAttempts } from '$lib/server/auth/rate-limit';
 import { startSession } from '$lib/server/auth/session';
-import { email, name, newPassword, parseForm } from '$lib/server/forms';
+import { email, name, newPassword, parseForm, fieldError } from '$lib/server/forms';
 import type { Actions, PageServerLoad } from './$types';
 
 const signupForm = z.object({
@@ -36,7 +36,7 @@ export const actions: Actions = {
 			userId = await createSupporter({ name, email, password: password || undefined });
 		} catch (error) {
 			if (error instanceof EmailTaken) {
-				return fail(400, { errors: { email: error.message }, values: parsed.values });
+				return fail(400, { errors: fieldError('email', error.message), values: parsed.values });
 			}
 			throw error;
 		}

@@ -5,9 +5,8 @@ import { INVITE_DAYS, PASSWORD_RESET_MINUTES, SIGN_IN_LINK_MINUTES, appOrigin } 
 import { db, type Executor } from '../db';
 import { roles as rolesTable, users, type Role } from '../db/schema';
 import { enqueueMail } from '../mail/outbox';
-import { renderEmail } from '../mail/templates';
+import { organisationVars, renderEmail } from '../mail/templates';
 import { kickOutbox } from '../mail/worker';
-import { getOrganisationSettings } from '../settings';
 import { lucia } from './lucia';
 import { burnPasswordCheck, hashPassword, verifyPassword } from './password';
 import { consumeToken, createToken } from './tokens';
@@ -28,11 +27,6 @@ export class EmailTaken extends Error {
 	constructor() {
 		super('An account with this e-mail already exists. Sign in instead, or ask for a sign-in link.');
 	}
-}
-
-async function orgFooter(tx: Executor) {
-	const org = await getOrganisationSettings(tx);
-	return { organisation: org.displayName, postalAddress: org.postalAddress };
 }
 
 /** Checks e-mail and password; returns the user id or null. Same work whether or not it exists. */
@@ -77,7 +71,7 @@ export async function sendSignInLink(email: string, redirectTo = '/account'): Pr
 		const token = await createToken(tx, user.id, 'sign_in_link', SIGN_IN_LINK_MINUTES * 60_000);
 		const link = `${appOrigin()}/signin/link/${token}?redirectTo=${encodeURIComponent(redirectTo)}`;
 		const mail = await renderEmail('sign-in-link', {
-			...(await orgFooter(tx)),
+			...(await organisationVars(tx)),
 			name: user.name,
 			link,
 			minutes: String(SIGN_IN_LINK_MINUTES)
@@ -103,7 +97,7 @@ export async function sendPasswordReset(email: string): Promise<void> {
 			PASSWORD_RESET_MINUTES * 60_000
 		);
 		const mail = await renderEmail('password-reset', {
-			...(await orgFooter(tx)),
+			...(await organisationVars(tx)),
 			name: user.name,
 			link: `${appOrigin()}/reset/${token}`,
 			minutes: String(PASSWORD_RESET_MINUTES)
@@ -186,10 +180,9 @@ export async function inviteStaff(
 			.values(input.roles.map((role) => ({ userId: id, role, grantedBy: actor.id })));
 		const token = await createToken(tx, id, 'invite', INVITE_DAYS * 86_400_000);
 		const mail = await renderEmail('staff-invite', {
-			...(await orgFooter(tx)),
+			...(await organisationVars(tx)),
 			name: input.name.trim(),
-			inviter: actor.name,
-			roles: input.roles.join(', '),
+			inviterName: actor.name,
 			link: `${appOrigin()}/invite/${token}`,
 			days: String(INVITE_DAYS)
 		});

@@ -12,7 +12,7 @@ import {
 import { requireRoles } from '$lib/server/auth/roles';
 import { db } from '$lib/server/db';
 import { roles as rolesTable, users } from '$lib/server/db/schema';
-import { email, name, parseForm } from '$lib/server/forms';
+import { email, name, parseForm, fieldError } from '$lib/server/forms';
 import { ROLES, type Role } from '$lib/roles';
 import { STAFF_AREAS } from '$lib/staff-areas';
 import type { Actions, PageServerLoad } from './$types';
@@ -78,7 +78,7 @@ export const actions: Actions = {
 			await inviteStaff(actor, parsed.data);
 		} catch (error) {
 			if (error instanceof EmailTaken) {
-				return fail(400, { form: 'invite', errors: { email: error.message }, values: parsed.values });
+				return fail(400, { form: 'invite', errors: fieldError('email', error.message), values: parsed.values });
 			}
 			throw error;
 		}
