@@ -16,7 +16,9 @@ export default ts.config(
 		files: ['**/*.ts', '**/*.svelte', '**/*.svelte.ts'],
 		languageOptions: {
 			parserOptions: {
-				projectService: true,
+				projectService: {
+					allowDefaultProject: ['tailwind.config.ts', 'drizzle.config.ts', 'vitest.e2e.config.ts']
+				},
 				extraFileExtensions: ['.svelte'],
 				parser: ts.parser,
 				svelteConfig

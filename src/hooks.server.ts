@@ -58,5 +58,7 @@ export const handle = sequence(requestId, session, securityHeaders);
 
 export const handleError: HandleServerError = ({ error, event, status }) => {
 	if (status >= 500) console.error(`[${event.locals.requestId}]`, error);
-	return { message: status >= 500 ? 'Something went wrong on our side.' : 'Not found.' };
+	return {
+		message: status >= 500 ? 'Something went wrong on our side. Please try again.' : 'Not found.'
+	};
 };

@@ -1,12 +1,7 @@
 // Words and formats for patients, shared by server and browser. Type-only imports keep the
 // schema module (server-only) out of the browser bundle while the Records below still fail to
 // compile when the schema gains a value that has no label here.
-import type {
-	AdmissionReason,
-	LifeStage,
-	PatientStatus,
-	Species
-} from '$lib/server/db/schema';
+import type { AdmissionReason, LifeStage, PatientStatus, Species } from '$lib/server/db/schema';
 
 export interface SpeciesLabel {
 	common: string;

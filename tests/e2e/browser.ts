@@ -48,7 +48,9 @@ export class SignInPage {
 	constructor(private readonly page: Page) {}
 
 	async open(redirectTo?: string) {
-		await this.page.goto(redirectTo ? `/signin?redirectTo=${encodeURIComponent(redirectTo)}` : '/signin');
+		await this.page.goto(
+			redirectTo ? `/signin?redirectTo=${encodeURIComponent(redirectTo)}` : '/signin'
+		);
 	}
 
 	async withPassword(email: string, password = DEMO_PASSWORD) {
@@ -56,7 +58,9 @@ export class SignInPage {
 		await form.getByLabel('E-mail').fill(email);
 		await form.getByLabel('Password').fill(password);
 		await Promise.all([
-			this.page.waitForURL((url) => url.pathname !== '/signin', { timeout: 15_000 }).catch(() => undefined),
+			this.page
+				.waitForURL((url) => url.pathname !== '/signin', { timeout: 15_000 })
+				.catch(() => undefined),
 			form.getByRole('button', { name: 'Sign in' }).click()
 		]);
 	}

@@ -51,7 +51,9 @@ describe('each role signs in and reaches only its areas', () => {
 		expect(new URL(page.url()).searchParams.get('redirectTo')).toBe('/staff/settings');
 		const form = page.locator('form[action="?/password"]');
 		await form.getByLabel('E-mail').fill(demoUser('admin').email);
-		await form.getByLabel('Password').fill((await import('$lib/server/db/seed/demo')).DEMO_PASSWORD);
+		await form
+			.getByLabel('Password')
+			.fill((await import('$lib/server/db/seed/demo')).DEMO_PASSWORD);
 		await Promise.all([
 			page.waitForURL('**/staff/settings'),
 			form.getByRole('button', { name: 'Sign in' }).click()

@@ -103,13 +103,17 @@ describe('sign-in links', () => {
 describe('failed sign-ins are slowed down', () => {
 	it(`blocks an account after ${LIMITS.account} failures, not other accounts`, async () => {
 		for (let i = 0; i < LIMITS.account; i++) {
-			await expect(assertSignInAllowed('target@example.test', '203.0.113.5')).resolves.toBeUndefined();
+			await expect(
+				assertSignInAllowed('target@example.test', '203.0.113.5')
+			).resolves.toBeUndefined();
 			await recordFailedSignIn('target@example.test', `203.0.113.${10 + i}`);
 		}
 		await expect(assertSignInAllowed('TARGET@example.test', '203.0.113.99')).rejects.toBeInstanceOf(
 			TooManyAttempts
 		);
-		await expect(assertSignInAllowed('other@example.test', '203.0.113.99')).resolves.toBeUndefined();
+		await expect(
+			assertSignInAllowed('other@example.test', '203.0.113.99')
+		).resolves.toBeUndefined();
 	});
 
 	it(`blocks an address after ${LIMITS.address} failures across accounts`, async () => {
@@ -119,13 +123,19 @@ describe('failed sign-ins are slowed down', () => {
 		await expect(assertSignInAllowed('fresh@example.test', '198.51.100.7')).rejects.toThrow(
 			/Too many attempts/
 		);
-		await expect(assertSignInAllowed('fresh@example.test', '198.51.100.8')).resolves.toBeUndefined();
+		await expect(
+			assertSignInAllowed('fresh@example.test', '198.51.100.8')
+		).resolves.toBeUndefined();
 	});
 });
 
 describe('staff administration', () => {
 	async function makeAdmin(email: string) {
-		const id = await createSupporter({ email, name: email.split('@')[0], password: 'admin password 1' });
+		const id = await createSupporter({
+			email,
+			name: email.split('@')[0],
+			password: 'admin password 1'
+		});
 		await db().insert(roles).values({ userId: id, role: 'admin' });
 		return { id, name: email.split('@')[0] };
 	}
@@ -172,7 +182,11 @@ describe('staff administration', () => {
 
 	it('disabling an account ends its sessions and stops its sign-in', async () => {
 		const admin = await makeAdmin('disabler@example.test');
-		const id = await createSupporter({ email: 'leaver@example.test', name: 'Leaver', password: 'leaver password 1' });
+		const id = await createSupporter({
+			email: 'leaver@example.test',
+			name: 'Leaver',
+			password: 'leaver password 1'
+		});
 		const session = await lucia().createSession(id, {});
 		await setAccountDisabled(admin.id, id, true);
 		expect((await lucia().validateSession(session.id)).session).toBeNull();

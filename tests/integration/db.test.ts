@@ -12,7 +12,7 @@ describe('test database', () => {
 		const tables = await db().execute(
 			sql`select count(*)::int as n from information_schema.tables where table_schema = 'public'`
 		);
-		expect((tables.rows[0] as { n: number }).n).toBeGreaterThanOrEqual(10);
+		expect((tables as { rows: { n: number }[] }).rows[0].n).toBeGreaterThanOrEqual(10);
 	});
 
 	it('refuses a second account with the same e-mail in another case', async () => {

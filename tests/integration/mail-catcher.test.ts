@@ -1,4 +1,4 @@
-import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, beforeEach, describe, expect, it, vi } from 'vitest';
 import { caughtMail } from '$lib/server/db/schema';
 import { startCatcher, type Catcher } from '$lib/server/mail/catcher';
 import { createMailTransport, type MailTransport } from '$lib/server/mail/transport';
@@ -43,7 +43,10 @@ describe('mail catcher', () => {
 	});
 
 	it('stores a message sent over SMTP, parsed', async () => {
-		const info = await transport.sendMail({ ...message, envelope: { from: 'bounce@tideward.test', to: ['ana@tideward.test', 'ben@tideward.test'] } });
+		const info = await transport.sendMail({
+			...message,
+			envelope: { from: 'bounce@tideward.test', to: ['ana@tideward.test', 'ben@tideward.test'] }
+		});
 		expect(info.accepted).toEqual(['ana@tideward.test', 'ben@tideward.test']);
 
 		const rows = await db().select().from(caughtMail);
@@ -77,6 +80,7 @@ describe('mail catcher', () => {
 	});
 
 	it('answers 451 when it cannot store, so the sender keeps the message', async () => {
+		const logged = vi.spyOn(console, 'error').mockImplementation(() => {});
 		const broken = await startCatcher({
 			database: () => {
 				throw new Error('database is down');
@@ -90,9 +94,14 @@ describe('mail catcher', () => {
 			);
 			expect(error).toMatchObject({ responseCode: 451 });
 			expect(isTransient(error)).toBe(true);
+			expect(logged).toHaveBeenCalledWith(
+				'mail catcher: could not store a message',
+				expect.any(Error)
+			);
 		} finally {
 			to.close();
 			await broken.close();
+			logged.mockRestore();
 		}
 		expect(await db().select().from(caughtMail)).toEqual([]);
 	});

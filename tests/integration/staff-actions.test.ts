@@ -30,7 +30,9 @@ function event(path: string, user: SessionUser | null, form: Record<string, stri
 async function person(roles: Role[]): Promise<SessionUser> {
 	const id = crypto.randomUUID();
 	const email = `${id.slice(0, 8)}@example.test`;
-	await db().insert(users).values({ id, email, name: `Person ${id.slice(0, 4)}` });
+	await db()
+		.insert(users)
+		.values({ id, email, name: `Person ${id.slice(0, 4)}` });
 	return { id, email, name: `Person ${id.slice(0, 4)}`, roles };
 }
 
@@ -53,7 +55,10 @@ describe('settings form', () => {
 		const [row] = await db().select().from(organisationSettings);
 		expect(row.distanceUnit).toBe('mi');
 		expect(row.legalName).toBe('Example Turtle Hospital Inc.');
-		const [entry] = await db().select().from(auditLog).where(eq(auditLog.action, 'settings.updated'));
+		const [entry] = await db()
+			.select()
+			.from(auditLog)
+			.where(eq(auditLog.action, 'settings.updated'));
 		expect(entry.actorId).toBe(admin.id);
 	});
 
@@ -72,7 +77,7 @@ describe('settings form', () => {
 		expect(isActionFailure(result)).toBe(true);
 		if (!isActionFailure(result)) return;
 		expect(result.status).toBe(400);
-		expect(result.data.errors).toEqual({
+		expect((result.data as { errors?: unknown } | undefined)?.errors).toEqual({
 			legalName: 'Enter the legal name.',
 			hotlineNumber: 'Enter a phone number: digits, spaces, ( ) - . and an optional +.',
 			distanceUnit: 'Choose kilometres or miles.'
@@ -111,7 +116,11 @@ describe('invite form', () => {
 			}
 		});
 		const smuggled = await usersActions.invite(
-			event('/staff/users', admin, { name: 'New Person', email: 'ok@example.test', roles: ['supporter'] })
+			event('/staff/users', admin, {
+				name: 'New Person',
+				email: 'ok@example.test',
+				roles: ['supporter']
+			})
 		);
 		expect(isActionFailure(smuggled)).toBe(true);
 		const [{ n: after }] = await db().select({ n: count() }).from(users);

@@ -48,7 +48,10 @@ describe('route coverage: every staff, account and API route checks roles on the
 			checkRouteSource('api/x/+server.ts', `export const GET = () => new Response('hi');`)
 		).toEqual([expect.objectContaining({ handler: 'GET' })]);
 		expect(checkRouteSource('staff/x/+page.server.ts', `export const prerender = false;`)).toEqual([
-			expect.objectContaining({ handler: 'load', problem: 'is missing: the page renders unchecked' })
+			expect.objectContaining({
+				handler: 'load',
+				problem: 'is missing: the page renders unchecked'
+			})
 		]);
 	});
 

@@ -62,7 +62,11 @@ function asFunction(node: ts.Node | undefined): ts.FunctionLikeDeclaration | und
 	) {
 		return node;
 	}
-	if (ts.isSatisfiesExpression(node) || ts.isAsExpression(node) || ts.isParenthesizedExpression(node)) {
+	if (
+		ts.isSatisfiesExpression(node) ||
+		ts.isAsExpression(node) ||
+		ts.isParenthesizedExpression(node)
+	) {
 		return asFunction(node.expression);
 	}
 	return undefined;
@@ -110,7 +114,8 @@ export function checkRouteSource(file: string, source: string): Violation[] {
 	const isEndpoint = file.endsWith('+server.ts');
 	if (isEndpoint) {
 		const handlers = HANDLERS.filter((h) => exported.has(h));
-		if (handlers.length === 0) violations.push({ file, handler: '-', problem: 'exports no handler' });
+		if (handlers.length === 0)
+			violations.push({ file, handler: '-', problem: 'exports no handler' });
 		for (const h of handlers) check(h, exported.get(h));
 		return violations;
 	}
@@ -168,7 +173,11 @@ export function checkRoutes(routesDir: string): { checked: string[]; violations:
 				});
 			}
 		} else if (/^\+.*\.server\.js$/.test(base)) {
-			violations.push({ file: relative(routesDir, file), handler: '-', problem: 'write it in TypeScript' });
+			violations.push({
+				file: relative(routesDir, file),
+				handler: '-',
+				problem: 'write it in TypeScript'
+			});
 		}
 	}
 	return { checked, violations };

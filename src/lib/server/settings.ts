@@ -1,5 +1,4 @@
 import { eq } from 'drizzle-orm';
-import { audit } from './audit';
 import { db, type Executor } from './db';
 import { organisationSettings, type DistanceUnit } from './db/schema';
 
@@ -60,8 +59,8 @@ export async function getOrganisationSettings(
 }
 
 /**
- * Saves the settings (creating the row on first save) and records who changed which fields in
- * the audit log. The caller validates `values` and runs this inside its transaction.
+ * Saves the settings, creating the row on first save; fields left out keep their value. The
+ * caller validates `values`, and writes the audit entry in the same transaction.
  */
 export async function updateOrganisationSettings(
 	tx: Executor,
@@ -79,17 +78,11 @@ export async function updateOrganisationSettings(
 		currency: values.currency ?? before.currency,
 		distanceUnit: values.distanceUnit ?? before.distanceUnit
 	};
-	const changed = (Object.keys(next) as (keyof OrganisationSettingsValues)[]).filter(
-		(key) => next[key] !== before[key]
-	);
 	const stamp = { updatedAt: new Date(), updatedBy: actorId };
 	const [row] = await tx
 		.insert(organisationSettings)
 		.values({ id: SETTINGS_ID, ...next, ...stamp })
 		.onConflictDoUpdate({ target: organisationSettings.id, set: { ...next, ...stamp } })
 		.returning(columns);
-	await audit(tx, actorId, 'organisation_settings.updated', 'organisation_settings', {
-		changed: Object.fromEntries(changed.map((key) => [key, { from: before[key], to: next[key] }]))
-	});
 	return row;
 }

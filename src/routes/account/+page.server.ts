@@ -6,8 +6,15 @@ import { newPassword, parseForm, fieldError } from '$lib/server/forms';
 import type { Actions, PageServerLoad } from './$types';
 
 const passwordForm = z
-	.object({ current: z.string().min(1, 'Enter your current password.'), password: newPassword, confirm: z.string() })
-	.refine((v) => v.password === v.confirm, { path: ['confirm'], message: 'The two passwords differ.' });
+	.object({
+		current: z.string().min(1, 'Enter your current password.'),
+		password: newPassword,
+		confirm: z.string()
+	})
+	.refine((v) => v.password === v.confirm, {
+		path: ['confirm'],
+		message: 'The two passwords differ.'
+	});
 
 export const load: PageServerLoad = (event) => {
 	const user = requireRoles(event);

@@ -10,9 +10,16 @@ export const GET: RequestHandler = async () => {
 		await db().execute(sql`select 1`);
 		return json({
 			status: 'ok',
-			database: { state: 'up', kind: databaseKind(), latencyMs: Math.round(performance.now() - started) }
+			database: {
+				state: 'up',
+				kind: databaseKind(),
+				latencyMs: Math.round(performance.now() - started)
+			}
 		});
 	} catch {
-		return json({ status: 'error', database: { state: 'down', kind: databaseKind() } }, { status: 503 });
+		return json(
+			{ status: 'error', database: { state: 'down', kind: databaseKind() } },
+			{ status: 503 }
+		);
 	}
 };

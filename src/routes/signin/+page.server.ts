@@ -31,7 +31,8 @@ export const load: PageServerLoad = ({ locals, url }) => {
 export const actions: Actions = {
 	password: async ({ request, cookies, url, getClientAddress }) => {
 		const parsed = parseForm(passwordForm, await request.formData());
-		if (!parsed.ok) return fail(400, { form: 'password', errors: parsed.errors, values: parsed.values });
+		if (!parsed.ok)
+			return fail(400, { form: 'password', errors: parsed.errors, values: parsed.values });
 		const { email, password, redirectTo } = parsed.data;
 		const address = getClientAddress();
 		try {
@@ -52,7 +53,8 @@ export const actions: Actions = {
 
 	link: async ({ request, getClientAddress }) => {
 		const parsed = parseForm(linkForm, await request.formData());
-		if (!parsed.ok) return fail(400, { form: 'link', errors: parsed.errors, values: parsed.values });
+		if (!parsed.ok)
+			return fail(400, { form: 'link', errors: parsed.errors, values: parsed.values });
 		try {
 			await consumeMailAllowance(getClientAddress());
 		} catch (error) {

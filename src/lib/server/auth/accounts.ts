@@ -25,7 +25,9 @@ export async function findUserByEmail(email: string, tx: Executor = db()) {
 
 export class EmailTaken extends Error {
 	constructor() {
-		super('An account with this e-mail already exists. Sign in instead, or ask for a sign-in link.');
+		super(
+			'An account with this e-mail already exists. Sign in instead, or ask for a sign-in link.'
+		);
 	}
 }
 
@@ -90,12 +92,7 @@ export async function sendPasswordReset(email: string): Promise<void> {
 	await db().transaction(async (tx) => {
 		const user = await findUserByEmail(email, tx);
 		if (!user || user.disabledAt) return;
-		const token = await createToken(
-			tx,
-			user.id,
-			'password_reset',
-			PASSWORD_RESET_MINUTES * 60_000
-		);
+		const token = await createToken(tx, user.id, 'password_reset', PASSWORD_RESET_MINUTES * 60_000);
 		const mail = await renderEmail('password-reset', {
 			...(await organisationVars(tx)),
 			name: user.name,

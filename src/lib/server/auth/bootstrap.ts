@@ -12,7 +12,9 @@ import { createToken } from './tokens';
  * no administrator yet, the server creates that account and prints a one-time link (valid
  * INVITE_DAYS days) to choose its password. Printed, not mailed: mail may not be set up yet.
  */
-export async function ensureFirstAdmin(email = process.env.FIRST_ADMIN_EMAIL): Promise<string | null> {
+export async function ensureFirstAdmin(
+	email = process.env.FIRST_ADMIN_EMAIL
+): Promise<string | null> {
 	if (!email) return null;
 	return db().transaction(async (tx) => {
 		const admins = await tx.select().from(roles).where(eq(roles.role, 'admin')).limit(1);

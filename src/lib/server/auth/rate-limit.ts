@@ -61,7 +61,8 @@ export async function assertSignInAllowed(email: string, address: string): Promi
 		[account, 'account'],
 		[ip, 'address']
 	] as const) {
-		if (res && res.consumedPoints >= LIMITS[name]) throw new TooManyAttempts(res.msBeforeNext / 1000);
+		if (res && res.consumedPoints >= LIMITS[name])
+			throw new TooManyAttempts(res.msBeforeNext / 1000);
 	}
 }
 

@@ -23,8 +23,7 @@ type EventLike = Pick<RequestEvent, 'locals' | 'url' | 'request'>;
  */
 export function requireRoles(event: EventLike, ...roles: Role[]): SessionUser {
 	const user = event.locals.user;
-	const wantsPage =
-		event.request.method === 'GET' && !event.url.pathname.startsWith('/api/');
+	const wantsPage = event.request.method === 'GET' && !event.url.pathname.startsWith('/api/');
 	if (!user) {
 		if (wantsPage) {
 			const back = event.url.pathname + event.url.search;

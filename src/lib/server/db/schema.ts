@@ -62,7 +62,10 @@ export const roles = pgTable(
 	},
 	(t) => [
 		primaryKey({ columns: [t.userId, t.role] }),
-		check('roles_role_known', sql`${t.role} in ('supporter','educator','tracker','development','admin')`)
+		check(
+			'roles_role_known',
+			sql`${t.role} in ('supporter','educator','tracker','development','admin')`
+		)
 	]
 );
 
@@ -193,7 +196,10 @@ export const patients = pgTable(
 		strandingLongitude: numeric('stranding_longitude', { precision: 9, scale: 6 }),
 		strandingPlace: text('stranding_place'),
 		strandedOn: date('stranded_on', { mode: 'string' }),
-		flipperTags: text('flipper_tags').array().notNull().default(sql`'{}'::text[]`),
+		flipperTags: text('flipper_tags')
+			.array()
+			.notNull()
+			.default(sql`'{}'::text[]`),
 		microchip: text('microchip'),
 		transmitterId: text('transmitter_id'),
 		medicalNotes: text('medical_notes'),

@@ -50,7 +50,10 @@ function selectedHeaders(parsed: ParsedMail): Record<string, string> {
 	const headers: Record<string, string> = {};
 	for (const { key, line } of parsed.headerLines) {
 		if (!(CAUGHT_HEADERS as readonly string[]).includes(key) || key in headers) continue;
-		const value = line.slice(line.indexOf(':') + 1).replace(/\r?\n[ \t]+/g, ' ').trim();
+		const value = line
+			.slice(line.indexOf(':') + 1)
+			.replace(/\r?\n[ \t]+/g, ' ')
+			.trim();
 		headers[key] = value;
 	}
 	return headers;

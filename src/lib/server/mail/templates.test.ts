@@ -36,7 +36,9 @@ describe('renderEmail', () => {
 		expect(mail.subject).not.toMatch(/[\r\n]/);
 
 		expect(mail.html).not.toContain('<script>alert');
-		expect(mail.html).toContain('&lt;script&gt;alert(&quot;hi&quot;)&lt;/script&gt; &amp; &#39;Bo&#39;');
+		expect(mail.html).toContain(
+			'&lt;script&gt;alert(&quot;hi&quot;)&lt;/script&gt; &amp; &#39;Bo&#39;'
+		);
 		expect(mail.html).toContain('12 Dune Road<br />Port Example, EX 00000');
 		expect(mail.html).toContain('Saltmarsh Turtle Hospital');
 		expect(mail.html).toMatch(/^<!doctype html>/i);
@@ -49,9 +51,7 @@ describe('renderEmail', () => {
 
 	it('puts links in the button and the text part', async () => {
 		const mail = await renderEmail('sign-in-link', varsFor('sign-in-link'));
-		expect(mail.html).toContain(
-			'href="http://127.0.0.1:3000/auth/x?token=abc&amp;next=%2Fstaff"'
-		);
+		expect(mail.html).toContain('href="http://127.0.0.1:3000/auth/x?token=abc&amp;next=%2Fstaff"');
 		expect(mail.text).toContain('http://127.0.0.1:3000/auth/x?token=abc&next=%2Fstaff');
 		expect(mail.text).toContain('17 minutes');
 		expect(mail.text).toMatch(/did not ask/);
@@ -70,8 +70,8 @@ describe('renderEmail', () => {
 	it('refuses to render with a variable missing', async () => {
 		const vars: Partial<TemplateVars<'password-reset'>> = varsFor('password-reset');
 		delete vars.link;
-		await expect(renderEmail('password-reset', vars as TemplateVars<'password-reset'>)).rejects.toThrow(
-			/\{\{link\}\}/
-		);
+		await expect(
+			renderEmail('password-reset', vars as TemplateVars<'password-reset'>)
+		).rejects.toThrow(/\{\{link\}\}/);
 	});
 });

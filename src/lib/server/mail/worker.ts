@@ -90,7 +90,7 @@ export async function runOutboxOnce(options: OutboxRunOptions = {}): Promise<Out
 			and(
 				eq(outbox.status, 'pending'),
 				lte(outbox.nextAttemptAt, sql`now()`),
-				sql`true`
+				or(isNull(outbox.lockedUntil), lt(outbox.lockedUntil, sql`now()`))
 			)
 		)
 		.orderBy(asc(outbox.id))

@@ -25,7 +25,10 @@ const settingsForm = z.object({
 	hotlineNumber: z
 		.string()
 		.trim()
-		.regex(/^\+?[0-9 ().-]{7,25}$/, 'Enter a phone number: digits, spaces, ( ) - . and an optional +.'),
+		.regex(
+			/^\+?[0-9 ().-]{7,25}$/,
+			'Enter a phone number: digits, spaces, ( ) - . and an optional +.'
+		),
 	currency: z.enum(['usd'], { error: 'Only US dollars are supported for now.' }),
 	distanceUnit: z.enum(['km', 'mi'], { error: 'Choose kilometres or miles.' })
 });
@@ -54,7 +57,9 @@ export const actions: Actions = {
 		if (!parsed.ok) return fail(400, { errors: parsed.errors, values: parsed.values });
 		await db().transaction(async (tx) => {
 			await updateOrganisationSettings(tx, parsed.data, actor.id);
-			await audit(tx, actor.id, 'settings.updated', 'organisation', { fields: Object.keys(parsed.data) });
+			await audit(tx, actor.id, 'settings.updated', 'organisation', {
+				fields: Object.keys(parsed.data)
+			});
 		});
 		return { saved: 'Settings saved.' };
 	}

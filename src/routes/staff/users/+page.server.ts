@@ -38,13 +38,20 @@ export const load: PageServerLoad = async (event) => {
 	requireRoles(event, ...area);
 	const [people, held] = await Promise.all([
 		db()
-			.select({ id: users.id, name: users.name, email: users.email, disabledAt: users.disabledAt, hasPassword: users.passwordHash })
+			.select({
+				id: users.id,
+				name: users.name,
+				email: users.email,
+				disabledAt: users.disabledAt,
+				hasPassword: users.passwordHash
+			})
 			.from(users)
 			.orderBy(asc(users.name)),
 		db().select({ userId: rolesTable.userId, role: rolesTable.role }).from(rolesTable)
 	]);
 	const rolesByUser = new Map<string, Role[]>();
-	for (const { userId, role } of held) rolesByUser.set(userId, [...(rolesByUser.get(userId) ?? []), role]);
+	for (const { userId, role } of held)
+		rolesByUser.set(userId, [...(rolesByUser.get(userId) ?? []), role]);
 	return {
 		people: people.map((p) => ({
 			id: p.id,
@@ -73,12 +80,17 @@ export const actions: Actions = {
 	invite: async (event) => {
 		const actor = requireRoles(event, ...area);
 		const parsed = parseForm(inviteForm, await event.request.formData());
-		if (!parsed.ok) return fail(400, { form: 'invite', errors: parsed.errors, values: parsed.values });
+		if (!parsed.ok)
+			return fail(400, { form: 'invite', errors: parsed.errors, values: parsed.values });
 		try {
 			await inviteStaff(actor, parsed.data);
 		} catch (error) {
 			if (error instanceof EmailTaken) {
-				return fail(400, { form: 'invite', errors: fieldError('email', error.message), values: parsed.values });
+				return fail(400, {
+					form: 'invite',
+					errors: fieldError('email', error.message),
+					values: parsed.values
+				});
 			}
 			throw error;
 		}
@@ -110,7 +122,8 @@ export const actions: Actions = {
 	disable: async (event) => {
 		const actor = requireRoles(event, ...area);
 		const parsed = parseForm(accountForm, await event.request.formData());
-		if (!parsed.ok || !(await userExists(parsed.data.userId))) return fail(400, { message: 'Choose a person.' });
+		if (!parsed.ok || !(await userExists(parsed.data.userId)))
+			return fail(400, { message: 'Choose a person.' });
 		try {
 			await setAccountDisabled(actor.id, parsed.data.userId, true);
 		} catch (error) {
@@ -122,7 +135,8 @@ export const actions: Actions = {
 	enable: async (event) => {
 		const actor = requireRoles(event, ...area);
 		const parsed = parseForm(accountForm, await event.request.formData());
-		if (!parsed.ok || !(await userExists(parsed.data.userId))) return fail(400, { message: 'Choose a person.' });
+		if (!parsed.ok || !(await userExists(parsed.data.userId)))
+			return fail(400, { message: 'Choose a person.' });
 		await setAccountDisabled(actor.id, parsed.data.userId, false);
 		return { done: 'Account enabled.' };
 	}

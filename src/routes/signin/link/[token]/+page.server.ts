@@ -10,7 +10,10 @@ import type { Actions, PageServerLoad } from './$types';
 // Opening the link only shows a button: mail scanners that fetch links must not use it up.
 export const load: PageServerLoad = async ({ params, url }) => {
 	const userId = await peekToken(db(), params.token, 'sign_in_link');
-	return { usable: userId !== null, redirectTo: safeRedirect(url.searchParams.get('redirectTo'), '') };
+	return {
+		usable: userId !== null,
+		redirectTo: safeRedirect(url.searchParams.get('redirectTo'), '')
+	};
 };
 
 export const actions: Actions = {
