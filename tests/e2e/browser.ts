@@ -43,6 +43,14 @@ export function demoUser(role: Role) {
 	return user;
 }
 
+/**
+ * Opens a page with a form and waits until it is hydrated: typing into inputs before hydration
+ * can be undone when Svelte takes the inputs over.
+ */
+export async function openForm(page: Page, path: string): Promise<void> {
+	await page.goto(path, { waitUntil: 'networkidle' });
+}
+
 /** Page object for the sign-in page. */
 export class SignInPage {
 	constructor(private readonly page: Page) {}
@@ -57,12 +65,17 @@ export class SignInPage {
 		const form = this.page.locator('form[action="?/password"]');
 		await form.getByLabel('E-mail').fill(email);
 		await form.getByLabel('Password').fill(password);
-		await Promise.all([
-			this.page
-				.waitForURL((url) => url.pathname !== '/signin', { timeout: 15_000 })
-				.catch(() => undefined),
-			form.getByRole('button', { name: 'Sign in' }).click()
+		await form.getByRole('button', { name: 'Sign in' }).click();
+		// Either we leave the sign-in page or it shows why not.
+		await Promise.race([
+			this.page.waitForURL((url) => url.pathname !== '/signin', { timeout: 20_000 }),
+			this.page.getByRole('alert').waitFor({ timeout: 20_000 })
 		]);
+	}
+
+	async alert(): Promise<string | null> {
+		const alert = this.page.getByRole('alert');
+		return (await alert.count()) ? alert.first().textContent() : null;
 	}
 
 	async askForLink(email: string) {
@@ -77,4 +90,7 @@ export async function signIn(page: Page, email: string): Promise<void> {
 	const signin = new SignInPage(page);
 	await signin.open();
 	await signin.withPassword(email);
+	if (new URL(page.url()).pathname === '/signin') {
+		throw new Error(`Signing in as ${email} failed: ${await signin.alert()}`);
+	}
 }

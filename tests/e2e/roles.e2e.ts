@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { ROLES, type Role } from '$lib/roles';
 import { STAFF_AREAS } from '$lib/staff-areas';
-import { demoUser, newPage, signIn, useBrowser } from './browser';
+import { demoUser, newPage, openForm, signIn, useBrowser } from './browser';
 
 const browser = useBrowser();
 
@@ -46,7 +46,7 @@ describe('each role signs in and reaches only its areas', () => {
 
 	it('a visitor is sent to sign in, and comes back after', async () => {
 		const { context, page } = await newPage(browser());
-		await page.goto('/staff/settings');
+		await openForm(page, '/staff/settings');
 		expect(new URL(page.url()).pathname).toBe('/signin');
 		expect(new URL(page.url()).searchParams.get('redirectTo')).toBe('/staff/settings');
 		const form = page.locator('form[action="?/password"]');

@@ -1,7 +1,7 @@
 import { spawn } from 'node:child_process';
 import { inject } from 'vitest';
 import { describe, expect, it } from 'vitest';
-import { demoUser, newPage, SignInPage, signIn, useBrowser } from './browser';
+import { demoUser, newPage, openForm, SignInPage, signIn, useBrowser } from './browser';
 
 const browser = useBrowser();
 
@@ -61,7 +61,7 @@ describe('sign-in', () => {
 			'That e-mail and password do not match an account.'
 		);
 
-		await page.goto('/signup');
+		await openForm(page, '/signup');
 		await page.getByLabel('Your name').fill('Test Person');
 		await page.getByLabel('E-mail').fill('not-an-address');
 		await page.getByLabel('E-mail').evaluate((el) => el.removeAttribute('type'));
