@@ -94,3 +94,25 @@ export async function signIn(page: Page, email: string): Promise<void> {
 		throw new Error(`Signing in as ${email} failed: ${await signin.alert()}`);
 	}
 }
+
+/**
+ * Reads the caught mail as an administrator (through the staff mailbox, as a person would) until
+ * a message to `to` contains a link matching `path`; returns that link's path and query.
+ */
+export async function linkFromCaughtMail(admin: Page, to: string, path: RegExp): Promise<string> {
+	for (let attempt = 0; attempt < 40; attempt++) {
+		await admin.goto('/staff/mail');
+		const row = admin.getByRole('row').filter({ hasText: to }).first();
+		if (await row.count()) {
+			await row.getByRole('link').click();
+			const body = (await admin.content()).replaceAll('&amp;', '&');
+			const found = body.match(new RegExp(`https?://[^\\s"'<>]+${path.source}[^\\s"'<>]*`));
+			if (found) {
+				const url = new URL(found[0]);
+				return url.pathname + url.search;
+			}
+		}
+		await new Promise((r) => setTimeout(r, 500));
+	}
+	throw new Error(`No mail to ${to} with a link like ${path} arrived.`);
+}

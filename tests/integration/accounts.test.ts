@@ -8,6 +8,7 @@ import {
 	inviteStaff,
 	LastAdmin,
 	revokeRole,
+	sendPasswordReset,
 	sendSignInLink,
 	setAccountDisabled,
 	setPasswordWithToken,
@@ -97,6 +98,34 @@ describe('sign-in links', () => {
 		const token = await createToken(db(), id, 'sign_in_link', 60_000);
 		const results = await Promise.all([useSignInLink(token), useSignInLink(token)]);
 		expect(results.filter((r) => r === id)).toHaveLength(1);
+	});
+});
+
+describe('password reset by e-mail', () => {
+	it('sets a new password once, ends the old sessions, and the old password stops working', async () => {
+		const id = await createSupporter({
+			email: 'forgetful@example.test',
+			name: 'Forgetful',
+			password: 'old password 123'
+		});
+		const before = await lucia().createSession(id, {});
+		await sendPasswordReset('Forgetful@example.test');
+		const [mail] = await outboxTo('forgetful@example.test');
+		expect(mail.subject).toMatch(/password/i);
+		const token = linkToken(mail.text, '/reset');
+		expect(await setPasswordWithToken(token, 'password_reset', 'new password 456')).toBe(id);
+		expect(await setPasswordWithToken(token, 'password_reset', 'third password 789')).toBeNull();
+		expect(await checkPassword('forgetful@example.test', 'old password 123')).toBeNull();
+		expect(await checkPassword('forgetful@example.test', 'new password 456')).toBe(id);
+		expect((await lucia().validateSession(before.id)).session).toBeNull();
+	});
+
+	it('an invite link cannot reset a password', async () => {
+		const id = await createSupporter({ email: 'mixup@example.test', name: 'Mixup' });
+		const invite = await createToken(db(), id, 'invite', 60_000);
+		expect(await setPasswordWithToken(invite, 'password_reset', 'sneaky password 1')).toBeNull();
+		await sendPasswordReset('nobody.here@example.test');
+		expect(await outboxTo('nobody.here@example.test')).toEqual([]);
 	});
 });
 
