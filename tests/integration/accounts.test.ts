@@ -78,9 +78,13 @@ describe('sign-in links', () => {
 		expect(user.emailVerified).toBe(true);
 	});
 
-	it('queues nothing for an unknown address', async () => {
+	it('queues nothing for an unknown address, nor for a staff account', async () => {
 		await sendSignInLink('stranger@example.test');
 		expect(await outboxTo('stranger@example.test')).toEqual([]);
+		const id = await createSupporter({ email: 'educator.too@example.test', name: 'Both' });
+		await db().insert(roles).values({ userId: id, role: 'educator' });
+		await sendSignInLink('educator.too@example.test');
+		expect(await outboxTo('educator.too@example.test')).toEqual([]);
 	});
 
 	it('refuses an expired link and a link of another purpose', async () => {

@@ -8,6 +8,7 @@ import { enqueueMail } from '../mail/outbox';
 import { organisationVars, renderEmail } from '../mail/templates';
 import { kickOutbox } from '../mail/worker';
 import { lucia } from './lucia';
+import { STAFF_ROLES } from './roles';
 import { burnPasswordCheck, hashPassword, verifyPassword } from './password';
 import { consumeToken, createToken } from './tokens';
 
@@ -63,13 +64,19 @@ export async function createSupporter(input: {
 }
 
 /**
- * Sends a one-time sign-in link when the e-mail belongs to an active account. Says nothing
+ * Sends a one-time sign-in link when the e-mail belongs to an active supporter. Says nothing
  * about whether it does: the caller shows the same message either way.
  */
 export async function sendSignInLink(email: string, redirectTo = '/account'): Promise<void> {
 	await db().transaction(async (tx) => {
 		const user = await findUserByEmail(email, tx);
 		if (!user || user.disabledAt) return;
+		// Staff accounts reach donors' data: they sign in with a password, never by mailed link.
+		const held = await tx
+			.select({ role: rolesTable.role })
+			.from(rolesTable)
+			.where(eq(rolesTable.userId, user.id));
+		if (held.some(({ role }) => STAFF_ROLES.includes(role))) return;
 		const token = await createToken(tx, user.id, 'sign_in_link', SIGN_IN_LINK_MINUTES * 60_000);
 		const link = `${appOrigin()}/signin/link/${token}?redirectTo=${encodeURIComponent(redirectTo)}`;
 		const mail = await renderEmail('sign-in-link', {

@@ -1,5 +1,6 @@
 import { and, eq, isNull } from 'drizzle-orm';
 import type { Cookies } from '@sveltejs/kit';
+import type { Cookie } from 'lucia';
 import { db } from '../db';
 import { roles as rolesTable, users, type Role } from '../db/schema';
 import { lucia, sessionCookieSecure, type SessionUser } from './lucia';
@@ -12,15 +13,7 @@ export async function rolesOf(userId: string): Promise<Role[]> {
 	return rows.map((r) => r.role).sort();
 }
 
-/** Starts a session for an active user and sets its cookie. */
-export async function startSession(userId: string, cookies: Cookies, url: URL): Promise<void> {
-	const active = await db()
-		.select({ id: users.id })
-		.from(users)
-		.where(and(eq(users.id, userId), isNull(users.disabledAt)));
-	if (active.length === 0) throw new Error('This account is disabled.');
-	const session = await lucia().createSession(userId, {});
-	const cookie = lucia().createSessionCookie(session.id);
+function setCookie(cookies: Cookies, cookie: Cookie, url: URL): void {
 	cookies.set(cookie.name, cookie.value, {
 		...cookie.attributes,
 		path: '/',
@@ -30,16 +23,20 @@ export async function startSession(userId: string, cookies: Cookies, url: URL): 
 	});
 }
 
+/** Starts a session for an active user and sets its cookie. */
+export async function startSession(userId: string, cookies: Cookies, url: URL): Promise<void> {
+	const active = await db()
+		.select({ id: users.id })
+		.from(users)
+		.where(and(eq(users.id, userId), isNull(users.disabledAt)));
+	if (active.length === 0) throw new Error('This account is disabled.');
+	const session = await lucia().createSession(userId, {});
+	setCookie(cookies, lucia().createSessionCookie(session.id), url);
+}
+
 export async function endSession(sessionId: string, cookies: Cookies, url: URL): Promise<void> {
 	await lucia().invalidateSession(sessionId);
-	const blank = lucia().createBlankSessionCookie();
-	cookies.set(blank.name, blank.value, {
-		...blank.attributes,
-		path: '/',
-		httpOnly: true,
-		sameSite: 'lax',
-		secure: sessionCookieSecure(url)
-	});
+	setCookie(cookies, lucia().createBlankSessionCookie(), url);
 }
 
 /** Reads the session cookie once per request; refreshes it when lucia extends the session. */
@@ -52,20 +49,10 @@ export async function readSession(
 	const { session, user } = await lucia().validateSession(sessionId);
 	if (!session || !user || user.disabledAt) {
 		if (session) await lucia().invalidateSession(session.id);
-		const blank = lucia().createBlankSessionCookie();
-		cookies.set(blank.name, blank.value, { ...blank.attributes, path: '/' });
+		setCookie(cookies, lucia().createBlankSessionCookie(), url);
 		return { user: null, session: null };
 	}
-	if (session.fresh) {
-		const cookie = lucia().createSessionCookie(session.id);
-		cookies.set(cookie.name, cookie.value, {
-			...cookie.attributes,
-			path: '/',
-			httpOnly: true,
-			sameSite: 'lax',
-			secure: sessionCookieSecure(url)
-		});
-	}
+	if (session.fresh) setCookie(cookies, lucia().createSessionCookie(session.id), url);
 	return {
 		session,
 		user: { id: user.id, email: user.email, name: user.name, roles: await rolesOf(user.id) }
