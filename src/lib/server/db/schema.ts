@@ -2,6 +2,7 @@ import { sql } from 'drizzle-orm';
 import {
 	boolean,
 	check,
+	customType,
 	date,
 	index,
 	integer,
@@ -111,6 +112,8 @@ export const organisationSettings = pgTable(
 		hotlineName: text('hotline_name').notNull().default(''),
 		currency: text('currency').notNull().default('usd'),
 		distanceUnit: text('distance_unit', { enum: DISTANCE_UNITS }).notNull().default('km'),
+		/** Whether a story needs approval by someone other than its author before publishing. */
+		storyReviewRequired: boolean('story_review_required').notNull().default(true),
 		updatedAt: timestamp('updated_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow(),
 		updatedBy: text('updated_by').references(() => users.id, { onDelete: 'set null' })
 	},
@@ -259,4 +262,174 @@ export const caughtMail = pgTable(
 			.defaultNow()
 	},
 	(t) => [uniqueIndex('caught_mail_message_id_unique').on(t.messageId)]
+);
+
+/** PostgreSQL bytea as a Node Buffer (drizzle has no built-in bytea column yet). */
+const bytea = customType<{ data: Buffer; driverData: Buffer | Uint8Array }>({
+	dataType: () => 'bytea',
+	fromDriver: (value) => (Buffer.isBuffer(value) ? value : Buffer.from(value))
+});
+
+export const patientStatusLog = pgTable(
+	'patient_status_log',
+	{
+		id: serial('id').primaryKey(),
+		patientId: text('patient_id')
+			.notNull()
+			.references(() => patients.id, { onDelete: 'cascade' }),
+		fromStatus: text('from_status', { enum: PATIENT_STATUSES }),
+		toStatus: text('to_status', { enum: PATIENT_STATUSES }).notNull(),
+		note: text('note'),
+		changedBy: text('changed_by').references(() => users.id, { onDelete: 'set null' }),
+		changedAt: timestamp('changed_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow()
+	},
+	(t) => [index('patient_status_log_patient_idx').on(t.patientId, t.changedAt)]
+);
+
+export const RELEASE_HABITATS = ['beach', 'seagrass_bed', 'offshore_weed_line', 'other'] as const;
+export type ReleaseHabitat = (typeof RELEASE_HABITATS)[number];
+
+/** A planned or completed release. The exact site is staff only; the public sees `publicArea`. */
+export const releases = pgTable(
+	'releases',
+	{
+		id: text('id').primaryKey(),
+		patientId: text('patient_id')
+			.notNull()
+			.references(() => patients.id, { onDelete: 'cascade' }),
+		releaseOn: date('release_on', { mode: 'string' }).notNull(),
+		publicArea: text('public_area').notNull(),
+		habitat: text('habitat', { enum: RELEASE_HABITATS }).notNull(),
+		// staff only
+		siteLatitude: numeric('site_latitude', { precision: 9, scale: 6 }),
+		siteLongitude: numeric('site_longitude', { precision: 9, scale: 6 }),
+		siteNotes: text('site_notes'),
+		authorisationRef: text('authorisation_ref'),
+		vetClearedBy: text('vet_cleared_by'),
+		vetClearedOn: date('vet_cleared_on', { mode: 'string' }),
+		transmitterAttached: boolean('transmitter_attached').notNull().default(false),
+		doneAt: timestamp('done_at', { withTimezone: true, mode: 'date' }),
+		doneBy: text('done_by').references(() => users.id, { onDelete: 'set null' }),
+		...timestamps
+	},
+	(t) => [index('releases_patient_idx').on(t.patientId)]
+);
+
+export const PATIENT_EVENT_KINDS = [
+	'released',
+	'story_published',
+	'waypoint',
+	'last_signal'
+] as const;
+export type PatientEventKind = (typeof PATIENT_EVENT_KINDS)[number];
+
+/**
+ * Things that happened to a patient that supporters may hear about. The supporter-updates work
+ * turns them into e-mails; `dedupe_key` stores each event once.
+ */
+export const patientEvents = pgTable(
+	'patient_events',
+	{
+		id: serial('id').primaryKey(),
+		patientId: text('patient_id')
+			.notNull()
+			.references(() => patients.id, { onDelete: 'cascade' }),
+		kind: text('kind', { enum: PATIENT_EVENT_KINDS }).notNull(),
+		dedupeKey: text('dedupe_key').notNull().unique(),
+		payload: jsonb('payload').$type<Record<string, unknown>>().notNull().default({}),
+		occurredAt: timestamp('occurred_at', { withTimezone: true, mode: 'date' })
+			.notNull()
+			.defaultNow(),
+		processedAt: timestamp('processed_at', { withTimezone: true, mode: 'date' })
+	},
+	(t) => [index('patient_events_unprocessed_idx').on(t.processedAt, t.id)]
+);
+
+/** An uploaded image, cleaned and resized; the bytes live in `media_variants`. */
+export const media = pgTable('media', {
+	id: text('id').primaryKey(),
+	alt: text('alt').notNull().default(''),
+	width: integer('width').notNull(),
+	height: integer('height').notNull(),
+	originalName: text('original_name'),
+	uploadedBy: text('uploaded_by').references(() => users.id, { onDelete: 'set null' }),
+	createdAt: timestamp('created_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow()
+});
+
+/** The web sizes of an image, stored in the database so that every instance can serve them. */
+export const mediaVariants = pgTable(
+	'media_variants',
+	{
+		mediaId: text('media_id')
+			.notNull()
+			.references(() => media.id, { onDelete: 'cascade' }),
+		width: integer('width').notNull(),
+		format: text('format', { enum: ['webp', 'jpeg'] }).notNull(),
+		height: integer('height').notNull(),
+		bytes: bytea('bytes').notNull(),
+		etag: text('etag').notNull()
+	},
+	(t) => [primaryKey({ columns: [t.mediaId, t.width, t.format] })]
+);
+
+export const patientPhotos = pgTable(
+	'patient_photos',
+	{
+		patientId: text('patient_id')
+			.notNull()
+			.references(() => patients.id, { onDelete: 'cascade' }),
+		mediaId: text('media_id')
+			.notNull()
+			.references(() => media.id, { onDelete: 'cascade' }),
+		position: integer('position').notNull().default(0),
+		caption: text('caption')
+	},
+	(t) => [primaryKey({ columns: [t.patientId, t.mediaId] })]
+);
+
+export const STORY_KINDS = ['admission', 'progress', 'release', 'journey', 'general'] as const;
+export type StoryKind = (typeof STORY_KINDS)[number];
+export const STORY_STATUSES = ['draft', 'in_review', 'scheduled', 'published', 'archived'] as const;
+export type StoryStatus = (typeof STORY_STATUSES)[number];
+
+export const stories = pgTable(
+	'stories',
+	{
+		id: text('id').primaryKey(),
+		slug: text('slug').notNull().unique(),
+		title: text('title').notNull(),
+		kind: text('kind', { enum: STORY_KINDS }).notNull(),
+		summary: text('summary').notNull().default(''),
+		bodyMarkdown: text('body_markdown').notNull().default(''),
+		/** Rendered with marked and cleaned with sanitize-html on the server at every save. */
+		bodyHtml: text('body_html').notNull().default(''),
+		heroMediaId: text('hero_media_id').references(() => media.id, { onDelete: 'set null' }),
+		status: text('status', { enum: STORY_STATUSES }).notNull().default('draft'),
+		authorId: text('author_id').references(() => users.id, { onDelete: 'set null' }),
+		approvedBy: text('approved_by').references(() => users.id, { onDelete: 'set null' }),
+		approvedAt: timestamp('approved_at', { withTimezone: true, mode: 'date' }),
+		publishAt: timestamp('publish_at', { withTimezone: true, mode: 'date' }),
+		publishedAt: timestamp('published_at', { withTimezone: true, mode: 'date' }),
+		...timestamps
+	},
+	(t) => [
+		index('stories_status_idx').on(t.status, t.publishedAt),
+		index('stories_due_idx').on(t.status, t.publishAt)
+	]
+);
+
+export const storyPatients = pgTable(
+	'story_patients',
+	{
+		storyId: text('story_id')
+			.notNull()
+			.references(() => stories.id, { onDelete: 'cascade' }),
+		patientId: text('patient_id')
+			.notNull()
+			.references(() => patients.id, { onDelete: 'cascade' })
+	},
+	(t) => [
+		primaryKey({ columns: [t.storyId, t.patientId] }),
+		index('story_patients_patient_idx').on(t.patientId)
+	]
 );
