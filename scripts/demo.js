@@ -27,7 +27,8 @@ const server = spawn(process.execPath, ['build'], {
 		HOST: process.env.HOST ?? '127.0.0.1',
 		ORIGIN: process.env.ORIGIN ?? `http://localhost:${port}`,
 		DATA_DIR: dataDir,
-		TIDEWARD_DEMO: '1'
+		TIDEWARD_DEMO: '1',
+		BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '16M'
 	}
 });
 for (const signal of /** @type {const} */ (['SIGINT', 'SIGTERM'])) {

@@ -7,6 +7,7 @@ import { readSession } from '$lib/server/auth/session';
 import { closeDatabase, openDatabase } from '$lib/server/db';
 import { DataDirLockedError } from '$lib/server/db/lock';
 import { startMail, stopMail } from '$lib/server/mail/service';
+import { startStoryScheduler, stopStoryScheduler } from '$lib/server/newsroom/scheduler';
 
 export const init: ServerInit = async () => {
 	if (building) return;
@@ -20,6 +21,7 @@ export const init: ServerInit = async () => {
 		throw error;
 	}
 	const mail = await startMail();
+	startStoryScheduler();
 	await ensureFirstAdmin();
 	if (process.env.TIDEWARD_DEMO === '1') {
 		const { ensureDemoData, printDemoBanner } = await import('$lib/server/demo');
@@ -30,7 +32,7 @@ export const init: ServerInit = async () => {
 		);
 	}
 	process.once('sveltekit:shutdown', () => {
-		void stopMail().finally(() => closeDatabase());
+		void Promise.allSettled([stopMail(), stopStoryScheduler()]).finally(() => closeDatabase());
 	});
 };
 

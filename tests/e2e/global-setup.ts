@@ -44,7 +44,9 @@ export default async function setup(project: TestProject) {
 			ORIGIN: baseURL,
 			DATA_DIR: dataDir,
 			TIDEWARD_DEMO: '1',
-			SMTP_URL: ''
+			SMTP_URL: '',
+			BODY_SIZE_LIMIT: '16M',
+			STORY_SCHEDULER_MS: '1000'
 		},
 		stdio: ['ignore', 'pipe', 'pipe']
 	});

@@ -44,7 +44,8 @@ const goodSettings = {
 	hotlineName: 'Example wildlife hotline',
 	hotlineNumber: '(555) 555-0100',
 	currency: 'usd',
-	distanceUnit: 'mi'
+	distanceUnit: 'mi',
+	storyReviewRequired: 'on'
 };
 
 describe('settings form', () => {

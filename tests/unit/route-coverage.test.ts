@@ -13,7 +13,8 @@ describe('route coverage: every staff, account and API route checks roles on the
 	it('knows which areas are protected', () => {
 		expect(isProtected('staff/users')).toBe(true);
 		expect(isProtected('account')).toBe(true);
-		expect(isProtected('api/patients')).toBe(true);
+		expect(isProtected('api/newsroom/uploads')).toBe(true);
+		expect(isProtected('api/patients')).toBe(false); // listed in PUBLIC_API
 		expect(isProtected('patients/[slug]')).toBe(false);
 		expect(isProtected('signin')).toBe(false);
 	});

@@ -8,7 +8,11 @@ import ts from 'typescript';
  */
 export const PROTECTED_PREFIXES = ['staff', 'account', 'api'];
 
-export const PUBLIC_API: Record<string, string> = {};
+export const PUBLIC_API: Record<string, string> = {
+	'api/patients': 'public data for visitors',
+	'api/patients/[slug]': 'public data for visitors',
+	'api/stories': 'public data for visitors'
+};
 
 const HANDLERS = ['GET', 'POST', 'PUT', 'PATCH', 'DELETE', 'OPTIONS', 'HEAD', 'fallback'];
 

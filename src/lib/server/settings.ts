@@ -11,6 +11,8 @@ export interface OrganisationSettings {
 	hotlineName: string;
 	currency: string;
 	distanceUnit: DistanceUnit;
+	/** Stories need approval by someone other than their author. */
+	storyReviewRequired: boolean;
 	/** Null until staff first save the settings. */
 	updatedAt: Date | null;
 	updatedBy: string | null;
@@ -30,6 +32,7 @@ export const DEFAULT_ORGANISATION_SETTINGS: Readonly<OrganisationSettings> = Obj
 	hotlineName: '',
 	currency: 'usd',
 	distanceUnit: 'km',
+	storyReviewRequired: true,
 	updatedAt: null,
 	updatedBy: null
 });
@@ -43,6 +46,7 @@ const columns = {
 	hotlineName: organisationSettings.hotlineName,
 	currency: organisationSettings.currency,
 	distanceUnit: organisationSettings.distanceUnit,
+	storyReviewRequired: organisationSettings.storyReviewRequired,
 	updatedAt: organisationSettings.updatedAt,
 	updatedBy: organisationSettings.updatedBy
 };
@@ -76,7 +80,8 @@ export async function updateOrganisationSettings(
 		hotlineNumber: values.hotlineNumber ?? before.hotlineNumber,
 		hotlineName: values.hotlineName ?? before.hotlineName,
 		currency: values.currency ?? before.currency,
-		distanceUnit: values.distanceUnit ?? before.distanceUnit
+		distanceUnit: values.distanceUnit ?? before.distanceUnit,
+		storyReviewRequired: values.storyReviewRequired ?? before.storyReviewRequired
 	};
 	const stamp = { updatedAt: new Date(), updatedBy: actorId };
 	const [row] = await tx

@@ -1,27 +1,26 @@
 import { error } from '@sveltejs/kit';
-import { getPublicPatient } from '$lib/server/patients';
+import { todayUtc } from '$lib/patient-days';
+import { appOrigin } from '$lib/server/config';
+import { getPublicProfile } from '$lib/server/patients';
+import { listPublishedStories } from '$lib/server/stories';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ params }) => {
-	const patient = await getPublicPatient(params.slug);
+	const patient = await getPublicProfile(params.slug);
 	if (!patient) error(404, 'Not found.');
-	const memorial = patient.publicTreatment === 'memorial';
+	const stories = await listPublishedStories({ patientSlug: patient.slug });
+	const origin = appOrigin();
 	return {
-		patient: {
-			slug: patient.slug,
-			name: patient.name,
-			species: patient.species,
-			lifeStage: patient.lifeStage,
-			carapaceLengthCm: patient.carapaceLengthCm,
-			weightKg: patient.weightKg,
-			admittedOn: patient.admittedOn,
-			admissionReason: patient.admissionReason,
-			status: patient.status,
-			summary: patient.summary,
-			heroImage: patient.heroImage,
-			heroAlt: patient.heroAlt,
-			memorial,
-			memorialNote: memorial ? patient.memorialNote : null
-		}
+		patient,
+		stories: stories.map((story) => ({
+			slug: story.slug,
+			title: story.title,
+			kind: story.kind,
+			summary: story.summary,
+			publishedAt: story.publishedAt
+		})),
+		today: todayUtc(),
+		canonical: `${origin}/patients/${patient.slug}`,
+		shareImage: `${origin}/og/patients/${patient.slug}.png`
 	};
 };

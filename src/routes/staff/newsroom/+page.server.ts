@@ -7,15 +7,15 @@ import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	requireRoles(event, ...STAFF_AREAS.newsroom.roles);
+	// Only what the patient table shows; each patient's page loads the rest.
 	const rows = await db()
 		.select({
-			slug: patients.slug,
+			id: patients.id,
 			name: patients.name,
 			species: patients.species,
 			status: patients.status,
 			publicTreatment: patients.publicTreatment,
-			admittedOn: patients.admittedOn,
-			updatedAt: patients.updatedAt
+			admittedOn: patients.admittedOn
 		})
 		.from(patients)
 		.orderBy(asc(patients.name));

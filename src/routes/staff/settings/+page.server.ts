@@ -30,7 +30,8 @@ const settingsForm = z.object({
 			'Enter a phone number: digits, spaces, ( ) - . and an optional +.'
 		),
 	currency: z.enum(['usd'], { error: 'Only US dollars are supported for now.' }),
-	distanceUnit: z.enum(['km', 'mi'], { error: 'Choose kilometres or miles.' })
+	distanceUnit: z.enum(['km', 'mi'], { error: 'Choose kilometres or miles.' }),
+	storyReviewRequired: z.preprocess((v) => v === 'on', z.boolean())
 });
 
 export const load: PageServerLoad = async (event) => {
@@ -45,7 +46,8 @@ export const load: PageServerLoad = async (event) => {
 			hotlineName: s.hotlineName,
 			hotlineNumber: s.hotlineNumber,
 			currency: s.currency,
-			distanceUnit: s.distanceUnit
+			distanceUnit: s.distanceUnit,
+			storyReviewRequired: s.storyReviewRequired
 		}
 	};
 };

@@ -1,0 +1,5 @@
+import { patientShareCard, shareCardResponse } from '$lib/server/og/card';
+import type { RequestHandler } from './$types';
+
+export const GET: RequestHandler = async ({ params, request }) =>
+	shareCardResponse(request, await patientShareCard(params.slug));
