@@ -18,6 +18,12 @@ export const SPECIES_LABELS: Record<Species, SpeciesLabel> = {
 	flatback: { common: 'Flatback', scientific: 'Natator depressus' }
 };
 
+/** The common name inside a sentence: lower case, except for a name taken from a person. */
+export function speciesInText(species: Species): string {
+	const common = SPECIES_LABELS[species].common;
+	return species === 'kemps_ridley' ? common : common.toLowerCase();
+}
+
 export const LIFE_STAGE_LABELS: Record<LifeStage, string> = {
 	post_hatchling: 'Post-hatchling',
 	juvenile: 'Juvenile',

@@ -1,4 +1,17 @@
-import { and, asc, desc, eq, ilike, inArray, isNotNull, ne, sql } from 'drizzle-orm';
+import {
+	and,
+	asc,
+	desc,
+	eq,
+	ilike,
+	inArray,
+	isNotNull,
+	ne,
+	sql,
+	type Column,
+	type SQL,
+	type Table
+} from 'drizzle-orm';
 import { IN_CARE_STATUSES } from '$lib/patients';
 import { db, type Executor } from './db';
 import {
@@ -81,22 +94,32 @@ export type PatientListItem = Omit<PublicPatientCard, 'heroImage' | 'heroAlt'> &
 	photo: PublicPhoto | null;
 };
 
+/**
+ * "table"."column" for correlated subqueries: in a query on one table Drizzle writes bare column
+ * names, which inside a subquery would bind to the subquery's own table.
+ */
+export function qualified(table: Table, column: Column): SQL {
+	return sql`${table}.${sql.identifier(column.name)}`;
+}
+
+const patientId = qualified(patients, patients.id);
+
 // The most recent completed release; a planned one is not news yet.
 const releasedOnSql = sql<string | null>`(
-	select max(${releases.releaseOn}) from ${releases}
-	where ${releases.patientId} = ${patients.id} and ${releases.doneAt} is not null
+	select max(r.release_on) from ${releases} r
+	where r.patient_id = ${patientId} and r.done_at is not null
 )`;
 
 const firstPhotoSql = sql<string | null>`(
-	select ${patientPhotos.mediaId} from ${patientPhotos}
-	where ${patientPhotos.patientId} = ${patients.id}
-	order by ${patientPhotos.position}, ${patientPhotos.mediaId} limit 1
+	select pp.media_id from ${patientPhotos} pp
+	where pp.patient_id = ${patientId}
+	order by pp.position, pp.media_id limit 1
 )`;
 
 const firstPhotoAltSql = sql<string | null>`(
-	select ${media.alt} from ${patientPhotos} join ${media} on ${media.id} = ${patientPhotos.mediaId}
-	where ${patientPhotos.patientId} = ${patients.id}
-	order by ${patientPhotos.position}, ${patientPhotos.mediaId} limit 1
+	select m.alt from ${patientPhotos} pp join ${media} m on m.id = pp.media_id
+	where pp.patient_id = ${patientId}
+	order by pp.position, pp.media_id limit 1
 )`;
 
 /**

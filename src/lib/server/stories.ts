@@ -1,7 +1,7 @@
 import { and, asc, desc, eq, exists, inArray, lt, ne, sql } from 'drizzle-orm';
 import { db, type Executor } from './db';
 import { media, patients, stories, storyPatients, type Species, type StoryKind } from './db/schema';
-import { mediaPhoto, type PublicPhoto } from './patients';
+import { mediaPhoto, qualified, type PublicPhoto } from './patients';
 
 /**
  * The public reading of the Newsroom. A story is public only while its status is 'published';
@@ -65,6 +65,9 @@ const storyOrder = [
 	asc(stories.slug)
 ];
 
+const storyId = qualified(stories, stories.id);
+const heroMediaId = qualified(stories, stories.heroMediaId);
+
 function linksPublicPatient(slug: string, executor: Executor) {
 	return exists(
 		executor
@@ -73,7 +76,7 @@ function linksPublicPatient(slug: string, executor: Executor) {
 			.innerJoin(patients, eq(patients.id, storyPatients.patientId))
 			.where(
 				and(
-					eq(storyPatients.storyId, stories.id),
+					sql`${storyPatients.storyId} = ${storyId}`,
 					eq(patients.slug, slug),
 					ne(patients.publicTreatment, 'hidden')
 				)
@@ -133,12 +136,8 @@ function toPublished(row: StoryRow, storyPatients: PublicStoryPatient[]): Publis
 
 const rowColumns = {
 	...publicStoryColumns,
-	heroAlt: sql<
-		string | null
-	>`(select ${media.alt} from ${media} where ${media.id} = ${stories.heroMediaId})`,
-	heroWidth: sql<
-		number | null
-	>`(select ${media.width} from ${media} where ${media.id} = ${stories.heroMediaId})`,
+	heroAlt: sql<string | null>`(select m.alt from ${media} m where m.id = ${heroMediaId})`,
+	heroWidth: sql<number | null>`(select m.width from ${media} m where m.id = ${heroMediaId})`,
 	updatedAt: stories.updatedAt,
 	createdAt: stories.createdAt
 };

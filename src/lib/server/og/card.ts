@@ -4,7 +4,7 @@ import sourceSansLatin from '@fontsource/source-sans-3/files/source-sans-3-latin
 import sourceSansLatinExt from '@fontsource/source-sans-3/files/source-sans-3-latin-ext-600-normal.woff?inline';
 import { error } from '@sveltejs/kit';
 import sharp from 'sharp';
-import { SPECIES_LABELS, STATUS_LABELS } from '$lib/patients';
+import { SPECIES_LABELS, speciesInText, STATUS_LABELS } from '$lib/patients';
 import { formatPublished, STORY_KIND_LABELS } from '$lib/stories';
 import { ifNoneMatchMatches, notModified, strongEtag, withEtag } from '../http';
 import { getPublicPatient } from '../patients';
@@ -183,9 +183,7 @@ export async function patientShareCard(slug: string): Promise<ShareCard | null> 
 export async function storyShareCard(slug: string): Promise<ShareCard | null> {
 	const story = await getPublishedStory(slug);
 	if (!story) return null;
-	const names = story.patients.map(
-		(p) => `${p.name} (${SPECIES_LABELS[p.species].common.toLowerCase()})`
-	);
+	const names = story.patients.map((p) => `${p.name} (${speciesInText(p.species)})`);
 	return {
 		eyebrow: `${STORY_KIND_LABELS[story.kind]} · ${formatPublished(story.publishedAt)}`,
 		title: story.title,

@@ -1,4 +1,3 @@
-import { patientFilterParams } from '$lib/patient-filters';
 import { jsonError, jsonWithEtag } from '$lib/server/http';
 import { listPublicPatients } from '$lib/server/patients';
 import { parsePatientListQuery } from '$lib/server/public-queries';
@@ -9,8 +8,5 @@ export const GET: RequestHandler = async ({ url, request }) => {
 	const query = parsePatientListQuery(url.searchParams);
 	if (!query.ok) return jsonError(400, query.message);
 	const patients = await listPublicPatients(query.value);
-	return jsonWithEtag(request, {
-		filters: Object.fromEntries(patientFilterParams(query.value)),
-		patients
-	});
+	return jsonWithEtag(request, { patients });
 };

@@ -1,17 +1,26 @@
 import { randomUUID } from 'node:crypto';
 import { hashPassword } from '../../auth/password';
+import { renderMarkdown } from '../../newsroom/markdown';
 import type { Database } from '../index';
 import {
 	auditLog,
 	organisationSettings,
+	patientEvents,
 	patients,
+	patientStatusLog,
+	releases,
 	roles,
+	stories,
+	storyPatients,
 	users,
 	type AdmissionReason,
 	type LifeStage,
 	type PatientStatus,
+	type ReleaseHabitat,
 	type Role,
-	type Species
+	type Species,
+	type StoryKind,
+	type StoryStatus
 } from '../schema';
 
 // The demo scenario: an invented hospital on the south coast of Puerto Rico with invented staff,
@@ -318,6 +327,280 @@ const DEMO_PATIENTS: DemoPatient[] = [
 	}
 ];
 
+/**
+ * Each patient's status history, oldest first: [status, days ago, note]. The last entry is the
+ * patient's current status; the first is the admission.
+ */
+const DEMO_STATUS_HISTORY: Record<string, [PatientStatus, number, string | null][]> = {
+	brisa: [
+		['admitted', 74, null],
+		['in_rehabilitation', 71, 'Eating on her own; first surgery planned.']
+	],
+	coralina: [
+		['admitted', 58, null],
+		['in_rehabilitation', 56, 'Wound cleaned and dressed; swimming in the shallow pool.'],
+		['ready_for_release', 6, 'Flipper healed; dives and feeds normally.']
+	],
+	timon: [
+		['admitted', 121, null],
+		['in_rehabilitation', 115, 'Shell fractures stabilised.']
+	],
+	perla: [
+		['admitted', 210, null],
+		['in_rehabilitation', 207, 'Rehydrated; flipper wounds superficial.'],
+		['ready_for_release', 170, 'Strong and diving well.'],
+		['released', 165, 'Release done: off the south coast']
+	],
+	centella: [['admitted', 3, null]],
+	gota: [
+		['admitted', 40, null],
+		['ready_for_release', 38, 'Rested, swimming hard; ready for the weed line.'],
+		['released', 37, 'Release done: offshore, beyond the western bays']
+	],
+	faro: [
+		['admitted', 912, null],
+		['in_rehabilitation', 905, 'Shell wound closing.'],
+		['permanent_resident', 700, 'Cannot dive: vet and agency agree Faro stays with us.']
+	],
+	marea: [['admitted', 9, null]],
+	luz: [
+		['admitted', 95, null],
+		['in_rehabilitation', 93, 'Eating small meals.'],
+		['died', 73, null]
+	],
+	ancla: [['admitted', 1, null]]
+};
+
+interface DemoRelease {
+	patient: string;
+	/** Days from the day of seeding: negative in the past, positive for a plan. */
+	releaseInDays: number;
+	publicArea: string;
+	habitat: ReleaseHabitat;
+	siteLatitude: string;
+	siteLongitude: string;
+	siteNotes: string;
+	authorisationRef: string | null;
+	vetClearedBy: string;
+	vetClearedInDays: number;
+	transmitterAttached: boolean;
+	done: boolean;
+}
+
+// Release sites and paperwork are staff only; the public sees the area name and the day.
+const DEMO_RELEASES: DemoRelease[] = [
+	{
+		patient: 'perla',
+		releaseInDays: -165,
+		publicArea: 'off the south coast',
+		habitat: 'other',
+		siteLatitude: '17.887400',
+		siteLongitude: '-66.703900',
+		siteNotes: 'Open water beyond the reef edge; launched from the hospital skiff at 07:40.',
+		authorisationRef: 'ARV-REL-25-0141',
+		vetClearedBy: 'Dr. Inés Cardona Ríos',
+		vetClearedInDays: -168,
+		transmitterAttached: true,
+		done: true
+	},
+	{
+		patient: 'gota',
+		releaseInDays: -37,
+		publicArea: 'offshore, beyond the western bays',
+		habitat: 'offshore_weed_line',
+		siteLatitude: '17.874100',
+		siteLongitude: '-67.051700',
+		siteNotes: 'Sargassum line about 8 km out; released by hand at dawn, calm sea.',
+		authorisationRef: 'ARV-REL-26-0036',
+		vetClearedBy: 'Dr. Inés Cardona Ríos',
+		vetClearedInDays: -38,
+		transmitterAttached: false,
+		done: true
+	},
+	{
+		patient: 'coralina',
+		releaseInDays: 5,
+		publicArea: 'off the southwest reefs',
+		habitat: 'other',
+		siteLatitude: '17.932600',
+		siteLongitude: '-66.928800',
+		siteNotes: 'Patch reef inside the shelf edge; boat from the west ramp. Waiting on the agency.',
+		authorisationRef: null,
+		vetClearedBy: 'Dr. Aurelio Santini Vega',
+		vetClearedInDays: -6,
+		transmitterAttached: false,
+		done: false
+	}
+];
+
+interface DemoStory {
+	slug: string;
+	title: string;
+	kind: StoryKind;
+	status: StoryStatus;
+	/** Days before the day of seeding it was published (or last edited, when not published). */
+	daysAgo: number;
+	patients: string[];
+	summary: string;
+	body: string;
+}
+
+const DEMO_STORIES: DemoStory[] = [
+	{
+		slug: 'centella-a-rare-visitor-with-a-hook',
+		title: 'Centella, a rare visitor, arrives with a swallowed hook',
+		kind: 'admission',
+		status: 'published',
+		daysAgo: 2,
+		patients: ['centella'],
+		summary:
+			'A young Kemp’s ridley, far from the waters where its kind usually lives, came in this week with a fishing hook in its throat.',
+		body: `Licensed responders brought us a small turtle this week, and the whole team stopped to look: **Centella is a Kemp’s ridley**, the rarest sea turtle in the world, and one we almost never see this far south.
+
+Centella had swallowed a fishing hook. An X-ray showed exactly where it sits, and our vets are now planning the gentlest way to take it out, using a slim camera and long forceps so that no surgery is needed.
+
+## What happens next
+
+- Centella rests in a quiet, shaded tank and is kept warm and calm.
+- The team checks breathing, appetite and blood values every day.
+- Once the hook is out, Centella will start on small meals of crab and fish.
+
+If you fish from a pier or a boat and hook a turtle by accident, **do not cut the line short or pull the hook**. Keep the turtle still if you safely can and call the wildlife hotline: a responder can take it out properly and a short line is much harder to treat.`
+	},
+	{
+		slug: 'brisa-can-see-the-seagrass-again',
+		title: 'Brisa can see the seagrass again',
+		kind: 'progress',
+		status: 'published',
+		daysAgo: 20,
+		patients: ['brisa'],
+		summary:
+			'After two operations to remove the growths around her eyes, our young green turtle is finding her own food.',
+		body: `When Brisa arrived, soft growths covered much of both eyes. They are caused by **fibropapillomatosis**, a tumour disease that affects many green turtles in warm coastal waters, and they had made it hard for her to find food.
+
+Our vets have now removed the growths in two short operations. The change has been wonderful to watch: Brisa glides to the seagrass and lettuce we place in the pool and eats without any help.
+
+> “The first morning she went straight for the seagrass, we all cheered at the window.” — one of our animal care volunteers
+
+The disease can come back, so Brisa will have check-ups and blood tests every few weeks. If those stay clear, we will start talking about her release.`
+	},
+	{
+		slug: 'timon-one-shell-patch-at-a-time',
+		title: 'Timón, one shell patch at a time',
+		kind: 'progress',
+		status: 'published',
+		daysAgo: 30,
+		patients: ['timon'],
+		summary:
+			'Four months after a boat strike, our loggerhead is diving to the bottom of the deep pool.',
+		body: `A boat propeller left Timón with three deep cuts across the back of the shell. Shells are living bone, and bone heals slowly, so this has been a long stay.
+
+Here is where things stand:
+
+1. The fractures are stable and covered with new, healthy tissue.
+2. Timón no longer floats at the surface, a common problem after a strike.
+3. This month Timón dived to the bottom of our deepest pool for the first time.
+
+There is still a way to go before release, and we will keep sharing the small steps. If you boat near the coast, slowing down in shallow water gives turtles time to dive out of the way.`
+	},
+	{
+		slug: 'faro-our-resident-ambassador',
+		title: 'A morning with Faro, our resident ambassador',
+		kind: 'general',
+		status: 'published',
+		daysAgo: 48,
+		patients: ['faro', 'coralina'],
+		summary:
+			'Faro cannot go back to the sea, but helps hundreds of school visitors understand why slowing down on the water matters.',
+		body: `Faro has lived with us for more than two years. After a boat strike, air gets trapped under Faro’s shell, and a turtle that cannot dive cannot feed or escape danger in the wild. The vet and the wildlife agency agreed: Faro stays with us for good.
+
+Faro’s day starts with a health check, then breakfast of greens, then a visit from whichever school group is with us that morning. Children watch Faro tilt and float, and then we talk about what they could do to help.
+
+In the next pool, the young hawksbill **Coralina** is the opposite story: after weeks of care for a flipper cut by fishing line, she is nearly ready to go home. Seeing the two of them side by side says more than any poster could.`
+	},
+	{
+		slug: 'perla-swims-home',
+		title: 'Perla swims home past the reef',
+		kind: 'release',
+		status: 'published',
+		daysAgo: 165,
+		patients: ['perla'],
+		summary:
+			'Six weeks after we cut her free of a drifting net, Perla went back to the sea with a satellite transmitter on her shell.',
+		body: `This morning the team carried Perla, our olive ridley, onto the skiff and took her out to open water off the south coast. She paused at the surface for a breath, then dived and was gone.
+
+Perla came to us wrapped in a drifting *ghost net* with both front flippers bound. Six weeks of wound care, good food and strength-building later, the vet cleared her for release and the wildlife agency authorised it.
+
+Perla carries a small **satellite transmitter**. Each time she surfaces it can send a position, and we will share her journey here, always a week or more behind and never as an exact spot, so that she can travel undisturbed.
+
+Thank you to everyone who followed her recovery.`
+	},
+	{
+		slug: 'perla-first-weeks-at-sea',
+		title: 'Perla’s first weeks at sea',
+		kind: 'journey',
+		status: 'published',
+		daysAgo: 120,
+		patients: ['perla'],
+		summary: 'Her transmitter has checked in regularly since release, and she is travelling well.',
+		body: `Since her release, Perla’s transmitter has reached a satellite most days. That alone is good news: it means she is surfacing to breathe normally and moving with purpose.
+
+Olive ridleys spend much of their lives in the open ocean, and Perla is behaving like one. We share her journey with a delay and only as broad areas, so the details here are deliberately general.
+
+We will post again when she passes her first long-distance milestone.`
+	},
+	{
+		slug: 'gota-heads-for-the-weed-line',
+		title: 'Tiny Gota heads for the weed line',
+		kind: 'release',
+		status: 'published',
+		daysAgo: 37,
+		patients: ['gota'],
+		summary:
+			'A leatherback hatchling that was found weak on the beach is back at sea after two days of rest.',
+		body: `Gota weighed about as much as a hen’s egg when a beach walker spotted the hatchling tangled in seaweed at the tideline, long after its nestmates had reached the water.
+
+After two days of rest and observation, Gota was swimming hard and ready. The team took the hatchling offshore, beyond the western bays, to the floating lines of seaweed where young leatherbacks find shelter and food, and let it go by hand.
+
+If you see hatchlings on the beach, give them room, keep lights off, and let them make their own way to the sea. If one is stranded, heading inland or hurt, call the wildlife hotline.`
+	},
+	{
+		slug: 'marea-and-the-plastic-problem',
+		title: 'Marea and the plastic problem',
+		kind: 'admission',
+		status: 'published',
+		daysAgo: 8,
+		patients: ['marea', 'ancla'],
+		summary:
+			'A young hawksbill was found floating and unable to dive, with swallowed plastic blocking its gut.',
+		body: `Marea was found floating and unable to dive. X-rays showed why: pieces of plastic were blocking the gut.
+
+The treatment is patient work: fluids, gentle feeding and time. Two pieces of plastic have passed so far, and each day Marea shows a little more appetite.
+
+Turtles mistake drifting plastic for food. Every bag, balloon and scrap kept off the beach is one less that can end up in a turtle like Marea.`
+	},
+	{
+		slug: 'coralina-release-day-plans',
+		title: 'Getting ready for Coralina’s release day',
+		kind: 'release',
+		status: 'draft',
+		daysAgo: 1,
+		patients: ['coralina'],
+		summary: 'Draft: what happens on the morning a turtle goes home.',
+		body: `Draft notes for the release story. Add photos from the skiff once the agency has answered.`
+	},
+	{
+		slug: 'faro-tries-a-new-harness',
+		title: 'Faro tries a new harness',
+		kind: 'progress',
+		status: 'in_review',
+		daysAgo: 2,
+		patients: ['faro'],
+		summary: 'Small weights may help Faro swim level. Early days.',
+		body: `Our team is testing a soft harness with small weights that may help Faro swim level. It is early days, and Faro sets the pace.`
+	}
+];
+
 function daysAgo(now: Date, days: number): Date {
 	return new Date(now.getTime() - days * 86_400_000);
 }
@@ -413,6 +696,123 @@ export async function seedDemo(database: Database, now: Date = new Date()): Prom
 				};
 			})
 		);
+
+		await tx.insert(patientStatusLog).values(
+			DEMO_PATIENTS.flatMap((p) => {
+				const history = DEMO_STATUS_HISTORY[p.slug] ?? [[p.status, p.admittedDaysAgo, null]];
+				return history.map(([status, days, note], i) => ({
+					patientId: patientIds.get(p.slug)!,
+					fromStatus: i === 0 ? null : history[i - 1][0],
+					toStatus: status,
+					note,
+					changedBy: educatorId,
+					changedAt: daysAgo(now, days)
+				}));
+			})
+		);
+
+		const releaseIds = new Map(DEMO_RELEASES.map((r) => [r.patient, randomUUID()]));
+		await tx.insert(releases).values(
+			DEMO_RELEASES.map((r) => {
+				const releaseDay = daysAgo(now, -r.releaseInDays);
+				return {
+					id: releaseIds.get(r.patient)!,
+					patientId: patientIds.get(r.patient)!,
+					releaseOn: calendarDay(releaseDay),
+					publicArea: r.publicArea,
+					habitat: r.habitat,
+					siteLatitude: r.siteLatitude,
+					siteLongitude: r.siteLongitude,
+					siteNotes: r.siteNotes,
+					authorisationRef: r.authorisationRef,
+					vetClearedBy: r.vetClearedBy,
+					vetClearedOn: calendarDay(daysAgo(now, -r.vetClearedInDays)),
+					transmitterAttached: r.transmitterAttached,
+					doneAt: r.done ? releaseDay : null,
+					doneBy: r.done ? educatorId : null,
+					createdAt: daysAgo(now, -r.vetClearedInDays + 2),
+					updatedAt: r.done ? releaseDay : daysAgo(now, -r.vetClearedInDays)
+				};
+			})
+		);
+
+		const storyIds = new Map(DEMO_STORIES.map((st) => [st.slug, randomUUID()]));
+		const reviewerId = idOf('celeste.staff@tideward.test');
+		await tx.insert(stories).values(
+			DEMO_STORIES.map((st) => {
+				const at = daysAgo(now, st.daysAgo);
+				const published = st.status === 'published';
+				return {
+					id: storyIds.get(st.slug)!,
+					slug: st.slug,
+					title: st.title,
+					kind: st.kind,
+					summary: st.summary,
+					bodyMarkdown: st.body,
+					bodyHtml: renderMarkdown(st.body),
+					status: st.status,
+					authorId: educatorId,
+					approvedBy: published ? reviewerId : null,
+					approvedAt: published ? daysAgo(now, st.daysAgo + 0.1) : null,
+					publishedAt: published ? at : null,
+					createdAt: daysAgo(now, st.daysAgo + 1),
+					updatedAt: at
+				};
+			})
+		);
+		await tx.insert(storyPatients).values(
+			DEMO_STORIES.flatMap((st) =>
+				st.patients.map((slug) => ({
+					storyId: storyIds.get(st.slug)!,
+					patientId: patientIds.get(slug)!
+				}))
+			)
+		);
+
+		// The demo's history has already been told: its events are marked processed so that no
+		// homecoming update or field note goes out for them.
+		const shownPatients = new Set(
+			DEMO_PATIENTS.filter(
+				(p) => (p.publicTreatment ?? 'shown') === 'shown' && p.status !== 'died'
+			).map((p) => p.slug)
+		);
+		await tx.insert(patientEvents).values([
+			...DEMO_RELEASES.filter((r) => r.done).map((r) => {
+				const at = daysAgo(now, -r.releaseInDays);
+				return {
+					patientId: patientIds.get(r.patient)!,
+					kind: 'released' as const,
+					dedupeKey: `released:${releaseIds.get(r.patient)}`,
+					payload: {
+						releaseOn: calendarDay(at),
+						publicArea: r.publicArea,
+						habitat: r.habitat
+					},
+					occurredAt: at,
+					processedAt: at
+				};
+			}),
+			...DEMO_STORIES.filter((st) => st.status === 'published').flatMap((st) =>
+				st.patients
+					.filter((slug) => shownPatients.has(slug))
+					.map((slug) => {
+						const at = daysAgo(now, st.daysAgo);
+						return {
+							patientId: patientIds.get(slug)!,
+							kind: 'story_published' as const,
+							dedupeKey: `story_published:${storyIds.get(st.slug)}:${patientIds.get(slug)}`,
+							payload: {
+								storyId: storyIds.get(st.slug),
+								slug: st.slug,
+								title: st.title,
+								kind: st.kind
+							},
+							occurredAt: at,
+							processedAt: at
+						};
+					})
+			)
+		]);
 
 		await tx.insert(auditLog).values([
 			{

@@ -37,10 +37,17 @@ export const patientForm = z.object({
 		.string()
 		.optional()
 		.transform((s) => (s ?? '').trim())
-		.pipe(z.string().max(TEXT_LIMITS.summary, `Keep the summary under ${TEXT_LIMITS.summary} characters.`)),
+		.pipe(
+			z
+				.string()
+				.max(TEXT_LIMITS.summary, `Keep the summary under ${TEXT_LIMITS.summary} characters.`)
+		),
 	strandedOn: optionalDay((d) => checkPastDay(d, new Date(), 'The stranding date')),
 	strandingPlace: optionalText(TEXT_LIMITS.strandingPlace, 'the place'),
-	strandingLatitude: optionalNumber('Enter the latitude in decimal degrees, like 17.9651.', checkLatitude),
+	strandingLatitude: optionalNumber(
+		'Enter the latitude in decimal degrees, like 17.9651.',
+		checkLatitude
+	),
 	strandingLongitude: optionalNumber(
 		'Enter the longitude in decimal degrees, like -66.2215.',
 		checkLongitude

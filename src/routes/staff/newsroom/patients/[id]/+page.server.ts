@@ -157,7 +157,12 @@ export const actions: Actions = {
 		const actor = requireRoles(event, ...area);
 		const parsed = parseForm(patientForm, await event.request.formData());
 		if (!parsed.ok) {
-			return fail(400, { form: 'profile', errors: parsed.errors, values: parsed.values });
+			return fail(400, {
+				form: 'profile',
+				message: 'Some fields need attention; see the messages beside them.',
+				errors: parsed.errors,
+				values: parsed.values
+			});
 		}
 		try {
 			await updatePatient(event.params.id, parsed.data, actor);
@@ -264,7 +269,8 @@ export const actions: Actions = {
 	movePhoto: async (event) => {
 		const actor = requireRoles(event, ...area);
 		const parsed = parseForm(movePhotoForm, await event.request.formData());
-		if (!parsed.ok) return fail(400, { form: 'gallery', message: 'Choose a photo and a direction.' });
+		if (!parsed.ok)
+			return fail(400, { form: 'gallery', message: 'Choose a photo and a direction.' });
 		const { mediaId, direction } = parsed.data;
 		try {
 			await moveGalleryPhoto(event.params.id, mediaId, direction, actor);

@@ -73,7 +73,10 @@ export const releaseForm = z.object({
 		})
 		.transform((value) => value.trim()),
 	habitat: z.enum(RELEASE_HABITATS, { error: 'Choose the habitat.' }),
-	siteLatitude: optionalNumber('Enter the latitude in decimal degrees, like 17.9102.', checkLatitude),
+	siteLatitude: optionalNumber(
+		'Enter the latitude in decimal degrees, like 17.9102.',
+		checkLatitude
+	),
 	siteLongitude: optionalNumber(
 		'Enter the longitude in decimal degrees, like -66.2507.',
 		checkLongitude

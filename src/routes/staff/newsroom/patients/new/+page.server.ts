@@ -8,6 +8,7 @@ import { patientForm } from '../patient-form';
 import type { Actions, PageServerLoad } from './$types';
 
 const area = STAFF_AREAS.newsroom.roles;
+const CHECK_FIELDS = 'Some fields need attention; see the messages beside them.';
 
 export const load: PageServerLoad = async (event) => {
 	requireRoles(event, ...area);
@@ -18,7 +19,9 @@ export const actions: Actions = {
 	create: async (event) => {
 		const actor = requireRoles(event, ...area);
 		const parsed = parseForm(patientForm, await event.request.formData());
-		if (!parsed.ok) return fail(400, { errors: parsed.errors, values: parsed.values });
+		if (!parsed.ok) {
+			return fail(400, { message: CHECK_FIELDS, errors: parsed.errors, values: parsed.values });
+		}
 		let id: string;
 		try {
 			({ id } = await createPatient(parsed.data, actor));
