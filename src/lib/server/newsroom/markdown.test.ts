@@ -30,7 +30,10 @@ function expectSafe(html: string) {
 			);
 			expect(attr.name).not.toMatch(/^on/i);
 			if (attr.name === 'href' || attr.name === 'src') {
-				const url = attr.value.replace(/[\s\u0000-\u001f]/g, '').toLowerCase();
+				const url = [...attr.value]
+					.filter((c) => c.charCodeAt(0) > 0x20)
+					.join('')
+					.toLowerCase();
 				expect(url).not.toMatch(/^(javascript|vbscript|data):/);
 			}
 		}
