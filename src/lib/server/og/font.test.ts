@@ -1,6 +1,6 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { loadWoff, measureText, readWoffTables, textPath, wrapText } from './font';
+import { loadWoff, measureText, textPath, wrapText } from './font';
 
 const file = (name: string) =>
 	readFileSync(`node_modules/@fontsource/source-sans-3/files/source-sans-3-${name}.woff`);
@@ -8,18 +8,16 @@ const font = loadWoff(file('latin-600-normal'));
 const stack = [font];
 
 describe('reading a WOFF font', () => {
-	it('decompresses the tables and reads the metrics', () => {
-		const tables = readWoffTables(file('latin-600-normal'));
-		expect(tables.get('head')?.readUInt32BE(12)).toBe(0x5f0f3cf5); // the head table's magic
+	it('reads the metrics', () => {
 		expect(font.unitsPerEm).toBeGreaterThan(0);
 		expect(font.ascender).toBeGreaterThan(0);
 		expect(font.descender).toBeLessThan(0);
 	});
 
 	it('maps characters to glyphs, and a character it lacks to glyph 0', () => {
-		expect(font.glyphIndex('A'.codePointAt(0)!)).toBeGreaterThan(0);
-		expect(font.glyphIndex('ó'.codePointAt(0)!)).toBeGreaterThan(0);
-		expect(font.glyphIndex('漢'.codePointAt(0)!)).toBe(0);
+		expect(font.charToGlyphIndex('A')).toBeGreaterThan(0);
+		expect(font.charToGlyphIndex('ó')).toBeGreaterThan(0);
+		expect(font.charToGlyphIndex('漢')).toBe(0);
 	});
 
 	it('refuses what is not a WOFF 1.0 file', () => {
