@@ -227,12 +227,9 @@ export interface GalleryPhoto extends PublicPhoto {
 	caption: string | null;
 }
 
-/** A patient's gallery in the order staff chose. */
-export async function listPatientPhotos(
-	patientId: string,
-	executor: Executor = db()
-): Promise<GalleryPhoto[]> {
-	const rows = await executor
+/** A patient's photos in the order staff chose (for the public page and the Newsroom). */
+export async function galleryRows(patientId: string, executor: Executor = db()) {
+	return executor
 		.select({
 			mediaId: patientPhotos.mediaId,
 			caption: patientPhotos.caption,
@@ -244,6 +241,14 @@ export async function listPatientPhotos(
 		.innerJoin(media, eq(media.id, patientPhotos.mediaId))
 		.where(eq(patientPhotos.patientId, patientId))
 		.orderBy(asc(patientPhotos.position), asc(patientPhotos.mediaId));
+}
+
+/** A patient's gallery in the order staff chose. */
+export async function listPatientPhotos(
+	patientId: string,
+	executor: Executor = db()
+): Promise<GalleryPhoto[]> {
+	const rows = await galleryRows(patientId, executor);
 	return rows.map((row) => ({
 		...mediaPhoto(row.mediaId, row.alt || row.caption || '', row.width),
 		width: row.width,

@@ -1,5 +1,6 @@
 // A patient's hero photo and gallery. The images themselves are stored and cleaned by the media
 // module (EXIF/GPS stripped on upload); here we only point at them.
+import { galleryRows } from '../patients';
 import { and, asc, eq, max } from 'drizzle-orm';
 import { audit } from '../audit';
 import { db, type Executor } from '../db';
@@ -170,17 +171,6 @@ export async function listGallery(
 	patientId: string,
 	executor: Executor = db()
 ): Promise<GalleryPhoto[]> {
-	const rows = await executor
-		.select({
-			mediaId: patientPhotos.mediaId,
-			caption: patientPhotos.caption,
-			alt: media.alt,
-			width: media.width,
-			height: media.height
-		})
-		.from(patientPhotos)
-		.innerJoin(media, eq(media.id, patientPhotos.mediaId))
-		.where(eq(patientPhotos.patientId, patientId))
-		.orderBy(asc(patientPhotos.position), asc(patientPhotos.mediaId));
+	const rows = await galleryRows(patientId, executor);
 	return rows.map((r) => ({ ...r, url: mediaUrl(r.mediaId) }));
 }
