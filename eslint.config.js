@@ -17,7 +17,12 @@ export default ts.config(
 		languageOptions: {
 			parserOptions: {
 				projectService: {
-					allowDefaultProject: ['tailwind.config.ts', 'drizzle.config.ts', 'vitest.e2e.config.ts']
+					allowDefaultProject: [
+						'tailwind.config.ts',
+						'drizzle.config.ts',
+						'vitest.e2e.config.ts',
+						'scripts/bench/*.ts'
+					]
 				},
 				extraFileExtensions: ['.svelte'],
 				parser: ts.parser,
