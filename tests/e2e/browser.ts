@@ -48,7 +48,13 @@ export function demoUser(role: Role) {
  * can be undone when Svelte takes the inputs over.
  */
 export async function openForm(page: Page, path: string): Promise<void> {
-	await page.goto(path, { waitUntil: 'networkidle' });
+	await page.goto(path);
+	await waitForHydration(page);
+}
+
+/** Waits for the root layout to mark the document as hydrated. */
+export async function waitForHydration(page: Page): Promise<void> {
+	await page.locator('html[data-hydrated]').waitFor({ state: 'attached' });
 }
 
 /** Page object for the sign-in page. */
@@ -59,6 +65,7 @@ export class SignInPage {
 		await this.page.goto(
 			redirectTo ? `/signin?redirectTo=${encodeURIComponent(redirectTo)}` : '/signin'
 		);
+		await waitForHydration(this.page);
 	}
 
 	async withPassword(email: string, password = DEMO_PASSWORD) {
