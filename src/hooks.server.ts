@@ -7,6 +7,7 @@ import { readSession } from '$lib/server/auth/session';
 import { closeDatabase, openDatabase } from '$lib/server/db';
 import { DataDirLockedError } from '$lib/server/db/lock';
 import { startMail, stopMail } from '$lib/server/mail/service';
+import { startJourneyScheduler, stopJourneyScheduler } from '$lib/server/journeys/scheduler';
 import { startStoryScheduler, stopStoryScheduler } from '$lib/server/newsroom/scheduler';
 
 export const init: ServerInit = async () => {
@@ -31,8 +32,9 @@ export const init: ServerInit = async () => {
 			mail.catcherPort
 		);
 	}
+	startJourneyScheduler();
 	process.once('sveltekit:shutdown', () => {
-		void Promise.allSettled([stopMail(), stopStoryScheduler()]).finally(() => closeDatabase());
+		void Promise.allSettled([stopMail(), stopStoryScheduler(), stopJourneyScheduler()]).finally(() => closeDatabase());
 	});
 };
 

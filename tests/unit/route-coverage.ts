@@ -11,6 +11,8 @@ export const PROTECTED_PREFIXES = ['staff', 'account', 'api'];
 export const PUBLIC_API: Record<string, string> = {
 	'api/patients': 'public data for visitors',
 	'api/patients/[slug]': 'public data for visitors',
+	'api/patients/[slug]/journey': 'the public projection only: delayed, coarse cells, dates only',
+	'api/patients/[slug]/occurrences.csv': 'Darwin Core export of the public projection only',
 	'api/stories': 'public data for visitors'
 };
 

@@ -1,6 +1,8 @@
 import { sql } from 'drizzle-orm';
 import {
+	bigserial,
 	boolean,
+	doublePrecision,
 	check,
 	customType,
 	date,
@@ -10,6 +12,7 @@ import {
 	numeric,
 	pgTable,
 	primaryKey,
+	real,
 	serial,
 	text,
 	timestamp,
@@ -114,6 +117,12 @@ export const organisationSettings = pgTable(
 		distanceUnit: text('distance_unit', { enum: DISTANCE_UNITS }).notNull().default('km'),
 		/** Whether a story needs approval by someone other than its author before publishing. */
 		storyReviewRequired: boolean('story_review_required').notNull().default(true),
+		/** A waypoint update each time a patient's public distance crosses a multiple of this. */
+		waypointStepKm: integer('waypoint_step_km').notNull().default(500),
+		/** A transmitter with no fix for this many days is marked silent ("last signal"). */
+		silenceDays: integer('silence_days').notNull().default(30),
+		/** Fixes on land farther than this from the coast are removed when cleaning. */
+		inlandMetres: integer('inland_metres').notNull().default(5000),
 		updatedAt: timestamp('updated_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow(),
 		updatedBy: text('updated_by').references(() => users.id, { onDelete: 'set null' })
 	},
@@ -433,3 +442,117 @@ export const storyPatients = pgTable(
 		index('story_patients_patient_idx').on(t.patientId)
 	]
 );
+
+// ---------------------------------------------------------------------------------------------
+// Tracking. Everything here except `journeys` is staff only: exact positions and times of
+// animals at sea. The public reads nothing but `journeys`, which holds the public projection.
+
+export const LOCATION_CLASS_VALUES = ['G', '3', '2', '1', '0', 'A', 'B', 'Z'] as const;
+export const POSITION_STATUSES = ['pending', 'kept', 'rejected'] as const;
+export const CELL_SIZE_VALUES = ['0.1', '0.25', '0.5', '1'] as const;
+export const IMPORT_FORMATS = ['csv', 'geojson', 'gpx'] as const;
+
+/** How a patient's track is cleaned and published; one row per tracked patient. */
+export const trackingProfiles = pgTable(
+	'tracking_profiles',
+	{
+		patientId: text('patient_id')
+			.primaryKey()
+			.references(() => patients.id, { onDelete: 'cascade' }),
+		/** Days before a fix may be public; never below 7, staff may raise it. */
+		delayDays: integer('delay_days').notNull().default(7),
+		cellDeg: text('cell_deg', { enum: CELL_SIZE_VALUES }).notNull().default('0.1'),
+		minimumClass: text('minimum_class', { enum: LOCATION_CLASS_VALUES }).notNull().default('B'),
+		/** Null: the species default. */
+		maxSpeedMs: real('max_speed_ms'),
+		// the last computation, for the Tracking desk
+		computedAt: timestamp('computed_at', { withTimezone: true, mode: 'date' }),
+		rawCount: integer('raw_count').notNull().default(0),
+		keptCount: integer('kept_count').notNull().default(0),
+		rejectedCount: integer('rejected_count').notNull().default(0),
+		lastFixAt: timestamp('last_fix_at', { withTimezone: true, mode: 'date' }),
+		silentSince: timestamp('silent_since', { withTimezone: true, mode: 'date' }),
+		/** Exact cleaned length up to the public cutoff, for waypoint steps; readers see it rounded. */
+		publicDistanceMetres: doublePrecision('public_distance_metres').notNull().default(0),
+		...timestamps
+	},
+	(t) => [check('tracking_profiles_delay_min', sql`${t.delayDays} >= 7`)]
+);
+
+/** One uploaded file of positions, with what happened to its rows. */
+export const positionImports = pgTable(
+	'position_imports',
+	{
+		id: text('id').primaryKey(),
+		patientId: text('patient_id')
+			.notNull()
+			.references(() => patients.id, { onDelete: 'cascade' }),
+		transmitterId: text('transmitter_id').notNull(),
+		fileName: text('file_name').notNull(),
+		format: text('format', { enum: IMPORT_FORMATS }).notNull(),
+		rowsRead: integer('rows_read').notNull(),
+		rowsAdded: integer('rows_added').notNull(),
+		rowsAlreadyStored: integer('rows_already_stored').notNull(),
+		rowsRefused: integer('rows_refused').notNull(),
+		/** The first problems found (row, column, message); the count is in rowsRefused. */
+		problems: jsonb('problems')
+			.$type<Array<{ row: number; column: string; message: string }>>()
+			.notNull()
+			.default([]),
+		uploadedBy: text('uploaded_by').references(() => users.id, { onDelete: 'set null' }),
+		createdAt: timestamp('created_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow()
+	},
+	(t) => [index('position_imports_patient_idx').on(t.patientId, t.createdAt)]
+);
+
+/**
+ * Raw satellite positions, exactly as received, with the cleaning verdict. The same fix sent
+ * twice (transmitter, time, place and class) is stored once; two different fixes at the same
+ * time are both kept here and the cleaning keeps the better one.
+ */
+export const positions = pgTable(
+	'positions',
+	{
+		id: bigserial('id', { mode: 'number' }).primaryKey(),
+		patientId: text('patient_id')
+			.notNull()
+			.references(() => patients.id, { onDelete: 'cascade' }),
+		transmitterId: text('transmitter_id').notNull(),
+		observedAt: timestamp('observed_at', { withTimezone: true, mode: 'date' }).notNull(),
+		latitude: doublePrecision('latitude').notNull(),
+		longitude: doublePrecision('longitude').notNull(),
+		locationClass: text('location_class', { enum: LOCATION_CLASS_VALUES }).notNull(),
+		semiMajorM: real('semi_major_m'),
+		semiMinorM: real('semi_minor_m'),
+		orientationDeg: real('orientation_deg'),
+		errorRadiusM: real('error_radius_m'),
+		importId: text('import_id').references(() => positionImports.id, { onDelete: 'set null' }),
+		status: text('status', { enum: POSITION_STATUSES }).notNull().default('pending'),
+		rejectReason: text('reject_reason'),
+		rejectDetail: text('reject_detail')
+	},
+	(t) => [
+		uniqueIndex('positions_same_fix_unique').on(
+			t.transmitterId,
+			t.observedAt,
+			t.latitude,
+			t.longitude,
+			t.locationClass
+		),
+		index('positions_patient_time_idx').on(t.patientId, t.observedAt)
+	]
+);
+
+/**
+ * The public projection of a patient's journey: delayed, snapped to the grid, dates only. The
+ * journey API, the patient page, share images, e-mails and exports read only this table.
+ */
+export const journeys = pgTable('journeys', {
+	patientId: text('patient_id')
+		.primaryKey()
+		.references(() => patients.id, { onDelete: 'cascade' }),
+	geojson: jsonb('geojson').$type<Record<string, unknown>>().notNull(),
+	etag: text('etag').notNull(),
+	cutoffDate: date('cutoff_date', { mode: 'string' }).notNull(),
+	computedAt: timestamp('computed_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow()
+});

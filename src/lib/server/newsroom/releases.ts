@@ -5,7 +5,8 @@ import { randomUUID } from 'node:crypto';
 import { and, eq, isNull } from 'drizzle-orm';
 import { audit } from '../audit';
 import { db, type Executor } from '../db';
-import { patientEvents, patients, releases, type PatientStatus } from '../db/schema';
+import { patientEvents, patients, positions, releases, type PatientStatus } from '../db/schema';
+import { recomputeJourney } from '../journeys/recompute';
 import {
 	checkReleaseCompletion,
 	NewsroomRefusal,
@@ -195,6 +196,13 @@ export async function completeRelease(
 				})
 				.onConflictDoNothing({ target: patientEvents.dedupeKey });
 		}
+		// Positions already uploaded (e.g. the transmitter's first days) become a public journey.
+		const [tracked] = await tx
+			.select({ id: positions.id })
+			.from(positions)
+			.where(eq(positions.patientId, patient.id))
+			.limit(1);
+		if (tracked) await recomputeJourney(tx, patient.id, now.getTime());
 		return { outcome: 'done' };
 	});
 }

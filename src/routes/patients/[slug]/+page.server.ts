@@ -1,14 +1,20 @@
 import { error } from '@sveltejs/kit';
 import { todayUtc } from '$lib/patient-days';
 import { appOrigin } from '$lib/server/config';
+import { getPublicJourney } from '$lib/server/journeys/public';
 import { getPublicProfile } from '$lib/server/patients';
+import { getOrganisationSettings } from '$lib/server/settings';
 import { listPublishedStories } from '$lib/server/stories';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ params }) => {
 	const patient = await getPublicProfile(params.slug);
 	if (!patient) error(404, 'Not found.');
-	const stories = await listPublishedStories({ patientSlug: patient.slug });
+	const [stories, journey, organisation] = await Promise.all([
+		listPublishedStories({ patientSlug: patient.slug }),
+		getPublicJourney(patient.slug),
+		getOrganisationSettings()
+	]);
 	const origin = appOrigin();
 	return {
 		patient,
@@ -20,6 +26,9 @@ export const load: PageServerLoad = async ({ params }) => {
 			publishedAt: story.publishedAt
 		})),
 		today: todayUtc(),
+		// The stored public projection only: coarse cells, dates, rounded distance.
+		journey: journey?.geojson ?? null,
+		distanceUnit: organisation.distanceUnit,
 		canonical: `${origin}/patients/${patient.slug}`,
 		shareImage: `${origin}/og/patients/${patient.slug}.png`
 	};

@@ -1,6 +1,9 @@
+import { and, eq, isNull } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import { hashPassword } from '../../auth/password';
+import { recomputeJourney } from '../../journeys/recompute';
 import { renderMarkdown } from '../../newsroom/markdown';
+import { syntheticTrack } from '../../tracking/synthetic';
 import type { Database } from '../index';
 import {
 	auditLog,
@@ -8,6 +11,7 @@ import {
 	patientEvents,
 	patients,
 	patientStatusLog,
+	positions,
 	releases,
 	roles,
 	stories,
@@ -848,5 +852,41 @@ export async function seedDemo(database: Database, now: Date = new Date()): Prom
 				at: daysAgo(now, 72)
 			}
 		]);
+
+		// Perla's transmitter: an invented, seeded track drifting west-south-west across the
+		// Caribbean since her release, with some poor fixes and outliers for the cleaning to show.
+		const perlaId = patientIds.get('perla')!;
+		const perla = DEMO_PATIENTS.find((p) => p.slug === 'perla')!;
+		const perlaRelease = DEMO_RELEASES.find((r) => r.patient === 'perla')!;
+		const track = syntheticTrack({
+			seed: 7,
+			start: { lat: Number(perlaRelease.siteLatitude), lon: Number(perlaRelease.siteLongitude) },
+			startTime: daysAgo(now, -perlaRelease.releaseInDays).getTime() + 3_600_000,
+			days: -perlaRelease.releaseInDays - 1,
+			fixesPerDay: 6,
+			headingDeg: 250,
+			speedKmh: 0.4,
+			zFraction: 0.03,
+			spikeFraction: 0.02,
+			idPrefix: 'perla'
+		});
+		for (let i = 0; i < track.fixes.length; i += 1000) {
+			await tx.insert(positions).values(
+				track.fixes.slice(i, i + 1000).map((f) => ({
+					patientId: perlaId,
+					transmitterId: perla.transmitterId!,
+					observedAt: new Date(f.time),
+					latitude: Number(f.lat.toFixed(5)),
+					longitude: Number(f.lon.toFixed(5)),
+					locationClass: f.lc
+				}))
+			);
+		}
+		await recomputeJourney(tx, perlaId, now.getTime());
+		// Already told, like the rest of the demo's history.
+		await tx
+			.update(patientEvents)
+			.set({ processedAt: now })
+			.where(and(eq(patientEvents.patientId, perlaId), isNull(patientEvents.processedAt)));
 	});
 }

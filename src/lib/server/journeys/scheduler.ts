@@ -1,0 +1,51 @@
+// The public cutoff moves every day, and a transmitter falls silent without anyone uploading:
+// once a day each tracked patient's projection is computed again. Every instance runs this loop;
+// recomputeJourney locks the patient row, and a patient already done today is skipped.
+import { isNull, lt, or } from 'drizzle-orm';
+import { db } from '../db';
+import { trackingProfiles } from '../db/schema';
+import { recomputeJourney } from './recompute';
+
+/** Recomputes every tracked patient not yet computed on today's UTC date; returns how many. */
+export async function recomputeStaleJourneys(now: number = Date.now()): Promise<number> {
+	const startOfDay = new Date(Math.floor(now / 86_400_000) * 86_400_000);
+	const stale = await db()
+		.select({ patientId: trackingProfiles.patientId })
+		.from(trackingProfiles)
+		.where(or(isNull(trackingProfiles.computedAt), lt(trackingProfiles.computedAt, startOfDay)));
+	for (const { patientId } of stale) {
+		await db().transaction((tx) => recomputeJourney(tx, patientId, now));
+	}
+	return stale.length;
+}
+
+const holder = globalThis as typeof globalThis & {
+	__tidewardJourneyScheduler?: { timer: NodeJS.Timeout; running: Promise<unknown> | null };
+};
+
+export function startJourneyScheduler(
+	intervalMs = Number(process.env.JOURNEY_SCHEDULER_MS ?? 3_600_000)
+) {
+	if (holder.__tidewardJourneyScheduler || process.env.JOURNEY_SCHEDULER === 'off') return;
+	const state: { timer: NodeJS.Timeout; running: Promise<unknown> | null } = {
+		timer: setInterval(() => tick(), intervalMs),
+		running: null
+	};
+	const tick = () => {
+		if (state.running) return;
+		state.running = recomputeStaleJourneys()
+			.catch((error) => console.error('Recomputing journeys failed:', error))
+			.finally(() => (state.running = null));
+	};
+	state.timer.unref();
+	holder.__tidewardJourneyScheduler = state;
+	tick();
+}
+
+export async function stopJourneyScheduler(): Promise<void> {
+	const state = holder.__tidewardJourneyScheduler;
+	if (!state) return;
+	holder.__tidewardJourneyScheduler = undefined;
+	clearInterval(state.timer);
+	await state.running;
+}
