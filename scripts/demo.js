@@ -28,7 +28,7 @@ const server = spawn(process.execPath, ['build'], {
 		ORIGIN: process.env.ORIGIN ?? `http://localhost:${port}`,
 		DATA_DIR: dataDir,
 		TIDEWARD_DEMO: '1',
-		BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '16M'
+		BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '64M'
 	}
 });
 for (const signal of /** @type {const} */ (['SIGINT', 'SIGTERM'])) {

@@ -45,7 +45,7 @@ export default async function setup(project: TestProject) {
 			DATA_DIR: dataDir,
 			TIDEWARD_DEMO: '1',
 			SMTP_URL: '',
-			BODY_SIZE_LIMIT: '16M',
+			BODY_SIZE_LIMIT: '64M',
 			STORY_SCHEDULER_MS: '1000'
 		},
 		stdio: ['ignore', 'pipe', 'pipe']

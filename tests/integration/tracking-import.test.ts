@@ -43,32 +43,38 @@ const RELEASE_MS = Date.parse(`${RELEASE_DAY}T00:00:00Z`);
 async function person(roles: Role[]): Promise<SessionUser> {
 	const id = crypto.randomUUID();
 	const email = `${id.slice(0, 8)}@example.test`;
-	await db().insert(users).values({ id, email, name: `Person ${id.slice(0, 4)}` });
+	await db()
+		.insert(users)
+		.values({ id, email, name: `Person ${id.slice(0, 4)}` });
 	return { id, email, name: `Person ${id.slice(0, 4)}`, roles };
 }
 
 /** A released patient with a transmitter, ready for positions. */
 async function releasedPatient(slug: string) {
 	const id = crypto.randomUUID();
-	await db().insert(patients).values({
-		id,
-		slug,
-		name: `Test ${slug}`,
-		species: 'loggerhead',
-		lifeStage: 'adult',
-		admittedOn: '2026-01-01',
-		admissionReason: 'entanglement',
-		status: 'released',
-		transmitterId: `TX-${slug}`
-	});
-	await db().insert(releases).values({
-		id: crypto.randomUUID(),
-		patientId: id,
-		releaseOn: RELEASE_DAY,
-		publicArea: 'off the test coast',
-		habitat: 'other',
-		doneAt: new Date(RELEASE_MS)
-	});
+	await db()
+		.insert(patients)
+		.values({
+			id,
+			slug,
+			name: `Test ${slug}`,
+			species: 'loggerhead',
+			lifeStage: 'adult',
+			admittedOn: '2026-01-01',
+			admissionReason: 'entanglement',
+			status: 'released',
+			transmitterId: `TX-${slug}`
+		});
+	await db()
+		.insert(releases)
+		.values({
+			id: crypto.randomUUID(),
+			patientId: id,
+			releaseOn: RELEASE_DAY,
+			publicArea: 'off the test coast',
+			habitat: 'other',
+			doneAt: new Date(RELEASE_MS)
+		});
 	return { id, slug, transmitterId: `TX-${slug}` };
 }
 
@@ -161,7 +167,12 @@ describe('importing positions', () => {
 		const p = await releasedPatient('imp-again');
 		await importPositions(csvItems(oceanCsv(20)), request(p), db());
 		const again = await importPositions(csvItems(oceanCsv(30)), request(p), db());
-		expect(again).toMatchObject({ stored: true, rowsRead: 30, rowsAdded: 10, rowsAlreadyStored: 20 });
+		expect(again).toMatchObject({
+			stored: true,
+			rowsRead: 30,
+			rowsAdded: 10,
+			rowsAlreadyStored: 20
+		});
 		expect(await positionCount(p.id)).toBe(30);
 		const imports = await db()
 			.select()
@@ -285,10 +296,7 @@ describe('importing positions', () => {
 		const p = await releasedPatient('imp-died');
 		await db().update(patients).set({ status: 'died' }).where(eq(patients.id, p.id));
 		await importPositions(csvItems(oceanCsv(40)), request(p), db());
-		const events = await db()
-			.select()
-			.from(patientEvents)
-			.where(eq(patientEvents.patientId, p.id));
+		const events = await db().select().from(patientEvents).where(eq(patientEvents.patientId, p.id));
 		expect(events).toEqual([]);
 	});
 });
@@ -394,7 +402,12 @@ describe('the desk settings form', () => {
 		const p = await releasedPatient('desk-settings');
 		const tracker = await person(['tracker']);
 		const result = await deskActions.settings(
-			formEvent(p.slug, tracker, { delayDays: '3', cellDeg: '0.1', minimumClass: 'B', maxSpeedMs: '' })
+			formEvent(p.slug, tracker, {
+				delayDays: '3',
+				cellDeg: '0.1',
+				minimumClass: 'B',
+				maxSpeedMs: ''
+			})
 		);
 		expect(isActionFailure(result)).toBe(true);
 		expect(JSON.stringify(result)).toMatch(/cannot be shorter than 7 days/);
@@ -405,13 +418,23 @@ describe('the desk settings form', () => {
 		expect(rows.every((r) => r.delayDays === 7)).toBe(true);
 
 		const saved = await deskActions.settings(
-			formEvent(p.slug, tracker, { delayDays: '14', cellDeg: '0.25', minimumClass: '1', maxSpeedMs: '1.5' })
+			formEvent(p.slug, tracker, {
+				delayDays: '14',
+				cellDeg: '0.25',
+				minimumClass: '1',
+				maxSpeedMs: '1.5'
+			})
 		);
 		expect(isActionFailure(saved)).toBe(false);
 		const [profile] = await db()
 			.select()
 			.from(trackingProfiles)
 			.where(eq(trackingProfiles.patientId, p.id));
-		expect(profile).toMatchObject({ delayDays: 14, cellDeg: '0.25', minimumClass: '1', maxSpeedMs: 1.5 });
+		expect(profile).toMatchObject({
+			delayDays: 14,
+			cellDeg: '0.25',
+			minimumClass: '1',
+			maxSpeedMs: 1.5
+		});
 	});
 });

@@ -122,7 +122,11 @@ export async function saveTrackingSettings(
 }
 
 /** Sets the patient's current satellite transmitter ID (staff only). */
-export async function setTransmitter(patientId: string, transmitterId: string | null, actorId: string) {
+export async function setTransmitter(
+	patientId: string,
+	transmitterId: string | null,
+	actorId: string
+) {
 	await db().transaction(async (tx) => {
 		await tx
 			.update(patients)

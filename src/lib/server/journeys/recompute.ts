@@ -84,12 +84,19 @@ async function completedRelease(tx: Executor, patientId: string) {
 /** Writes the cleaning verdicts, 1,000 rows per statement. */
 async function storeVerdicts(
 	tx: Executor,
-	verdicts: Array<{ id: number; status: 'kept' | 'rejected'; reason: string | null; detail: string | null }>
+	verdicts: Array<{
+		id: number;
+		status: 'kept' | 'rejected';
+		reason: string | null;
+		detail: string | null;
+	}>
 ): Promise<void> {
 	for (let i = 0; i < verdicts.length; i += 1000) {
 		const chunk = verdicts.slice(i, i + 1000);
 		const values = sql.join(
-			chunk.map((v) => sql`(${v.id}::bigint, ${v.status}::text, ${v.reason}::text, ${v.detail}::text)`),
+			chunk.map(
+				(v) => sql`(${v.id}::bigint, ${v.status}::text, ${v.reason}::text, ${v.detail}::text)`
+			),
 			sql`, `
 		);
 		await tx.execute(sql`
@@ -187,7 +194,12 @@ export async function recomputeJourney(
 			.values({ patientId, geojson: { ...geojson }, etag, cutoffDate: journey.cutoffDate })
 			.onConflictDoUpdate({
 				target: journeys.patientId,
-				set: { geojson: { ...geojson }, etag, cutoffDate: journey.cutoffDate, computedAt: new Date() }
+				set: {
+					geojson: { ...geojson },
+					etag,
+					cutoffDate: journey.cutoffDate,
+					computedAt: new Date()
+				}
 			});
 		if (announces) {
 			const stepMetres = settings.waypointStepKm * 1000;

@@ -46,7 +46,10 @@ export const actions: Actions = {
 			return fail(400, { form: 'settings', errors: parsed.errors, values: parsed.values });
 		}
 		const result = await saveTrackingSettings(patient.id, parsed.data, user.id);
-		return { form: 'settings', saved: `Settings saved; ${result.kept} of ${result.raw} fixes kept.` };
+		return {
+			form: 'settings',
+			saved: `Settings saved; ${result.kept} of ${result.raw} fixes kept.`
+		};
 	},
 	transmitter: async (event) => {
 		const user = requireRoles(event, ...area);

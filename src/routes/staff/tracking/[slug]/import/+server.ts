@@ -18,14 +18,20 @@ import { STAFF_AREAS } from '$lib/staff-areas';
 import type { RequestHandler } from './$types';
 
 /** Largest file the desk accepts (the 50 MB, plus room). */
-export const MAX_IMPORT_BYTES = 64 * 1024 * 1024;
+const MAX_IMPORT_BYTES = 64 * 1024 * 1024;
 
 const query = z.object({
-	format: z.enum(['csv', 'geojson', 'gpx'], { error: 'Choose the file type: CSV, GeoJSON or GPX.' }),
+	format: z.enum(['csv', 'geojson', 'gpx'], {
+		error: 'Choose the file type: CSV, GeoJSON or GPX.'
+	}),
 	policy: z.enum(['refuse_file', 'skip_bad_rows'], {
 		error: 'Choose what to do with bad rows.'
 	}),
-	fileName: z.string().trim().min(1, 'The file has no name.').max(255, 'The file name is too long.'),
+	fileName: z
+		.string()
+		.trim()
+		.min(1, 'The file has no name.')
+		.max(255, 'The file name is too long.'),
 	transmitterId: z
 		.string()
 		.trim()
@@ -68,7 +74,11 @@ export const POST: RequestHandler = async (event) => {
 		try {
 			wanted = JSON.parse(parsed.data.mapping ?? '{}');
 		} catch {
-			return refuse(400, 'The column mapping could not be read; choose the columns again.', 'mapping');
+			return refuse(
+				400,
+				'The column mapping could not be read; choose the columns again.',
+				'mapping'
+			);
 		}
 		const headers = Object.values(wanted).filter((v): v is string => typeof v === 'string');
 		const checked = validateMapping(headers, wanted, defaultClass);

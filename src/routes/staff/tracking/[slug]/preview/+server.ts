@@ -7,7 +7,7 @@ import { STAFF_AREAS } from '$lib/staff-areas';
 import type { RequestHandler } from './$types';
 
 /** The browser sends the start of the file; the preview needs no more. */
-export const PREVIEW_BYTES = 64 * 1024;
+const PREVIEW_BYTES = 64 * 1024;
 
 /** The first rows of a CSV file and a suggested column mapping, for the mapping step. */
 export const POST: RequestHandler = async (event) => {
