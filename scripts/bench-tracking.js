@@ -1,13 +1,16 @@
 #!/usr/bin/env node
-// `npm run bench:tracking`: bundles scripts/bench/tracking.ts with esbuild and runs it.
+// `npm run bench:tracking` (or `bench:landmask`): bundles scripts/bench/<name>.ts with esbuild and
+// runs it; the name is the first argument, `tracking` by default.
 import { build } from 'esbuild';
 import { resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
 
 // Inside the project so the bundle resolves packages from node_modules.
-const outfile = resolve('node_modules/.cache/tideward-bench/tracking.mjs');
+const name = process.argv[2] ?? 'tracking';
+if (!/^[a-z-]+$/.test(name)) throw new Error(`No benchmark called ${name}`);
+const outfile = resolve(`node_modules/.cache/tideward-bench/${name}.mjs`);
 await build({
-	entryPoints: ['scripts/bench/tracking.ts'],
+	entryPoints: [`scripts/bench/${name}.ts`],
 	bundle: true,
 	platform: 'node',
 	format: 'esm',

@@ -34,7 +34,9 @@ export const init: ServerInit = async () => {
 	}
 	startJourneyScheduler();
 	process.once('sveltekit:shutdown', () => {
-		void Promise.allSettled([stopMail(), stopStoryScheduler(), stopJourneyScheduler()]).finally(() => closeDatabase());
+		void Promise.allSettled([stopMail(), stopStoryScheduler(), stopJourneyScheduler()]).finally(
+			() => closeDatabase()
+		);
 	});
 };
 

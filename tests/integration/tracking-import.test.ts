@@ -26,6 +26,7 @@ import type { Role } from '$lib/roles';
 import { GET as journeyApi } from '../../src/routes/api/patients/[slug]/journey/+server';
 import { GET as occurrencesApi } from '../../src/routes/api/patients/[slug]/occurrences.csv/+server';
 import { GET as staffTrackApi } from '../../src/routes/api/tracking/[slug]/[which]/+server';
+import { GET as journeyPng } from '../../src/routes/patients/[slug]/journey.png/+server';
 import { actions as deskActions } from '../../src/routes/staff/tracking/[slug]/+page.server';
 import { useTestDatabase } from '../setup/test-db';
 import { publicEvent } from './public-event';
@@ -340,10 +341,33 @@ describe('the journey API', () => {
 		expect(again.status).toBe(304);
 	});
 
+	it('draws the still map as a PNG from the stored projection, with an ETag', async () => {
+		const response = await journeyPng(publicEvent(`/patients/${slug}/journey.png`, { slug }));
+		expect(response.status).toBe(200);
+		expect(response.headers.get('content-type')).toBe('image/png');
+		const bytes = Buffer.from(await response.arrayBuffer());
+		// PNG signature (ISO/IEC 15948, 5.2) and the IHDR size: 600 × 340.
+		expect(bytes.subarray(0, 8)).toEqual(Buffer.from([137, 80, 78, 71, 13, 10, 26, 10]));
+		expect([bytes.readUInt32BE(16), bytes.readUInt32BE(20)]).toEqual([600, 340]);
+		const again = await journeyPng(
+			publicEvent(
+				`/patients/${slug}/journey.png`,
+				{ slug },
+				{
+					'if-none-match': response.headers.get('etag')!
+				}
+			)
+		);
+		expect(again.status).toBe(304);
+	});
+
 	it('answers 404 for a hidden patient and for one never released', async () => {
 		await db().update(patients).set({ publicTreatment: 'hidden' }).where(eq(patients.slug, slug));
 		const hidden = await journeyApi(publicEvent(`/api/patients/${slug}/journey`, { slug }));
 		expect(hidden.status).toBe(404);
+		await expect(
+			journeyPng(publicEvent(`/patients/${slug}/journey.png`, { slug }))
+		).rejects.toMatchObject({ status: 404 });
 		await db().update(patients).set({ publicTreatment: 'shown' }).where(eq(patients.slug, slug));
 		const unknown = await journeyApi(
 			publicEvent('/api/patients/nobody/journey', { slug: 'nobody' })

@@ -1,0 +1,289 @@
+import { pipeline, type Readable } from 'node:stream';
+import { CsvError, parse } from 'csv-parse';
+import type { LocationClass } from '../types';
+import { suggestMapping, validateMapping } from './mapping';
+import {
+	ImportFileError,
+	type CsvDelimiter,
+	type CsvMapping,
+	type MappingField,
+	type ParseItem
+} from './types';
+import {
+	checkRow,
+	parseDecimal,
+	parseTimestamp,
+	quote,
+	type FieldValue,
+	type RowInput
+} from './values';
+
+const DELIMITERS: readonly CsvDelimiter[] = [',', ';', '\t'];
+const DELIMITER_NAMES: Readonly<Record<CsvDelimiter, string>> = {
+	',': 'comma',
+	';': 'semicolon',
+	'\t': 'tab'
+};
+/** Same as csv-parse's own record size guard. */
+const MAX_LINE_BYTES = 128_000;
+
+/**
+ * Counts each candidate outside double quotes in the header line; the most frequent wins, ties
+ * going to the earlier of comma, semicolon, tab. The header is used rather than csv-parse's
+ * `delimiter_auto`, which samples data rows too: a semicolon file full of decimal commas
+ * ("12,5") would be read as comma-separated, and its rows could not be told apart from good ones.
+ */
+export function sniffDelimiter(headerLine: string): CsvDelimiter | null {
+	const counts = new Map<CsvDelimiter, number>(DELIMITERS.map((d) => [d, 0]));
+	let quoted = false;
+	for (const char of headerLine) {
+		if (char === '"') quoted = !quoted;
+		else if (!quoted && counts.has(char as CsvDelimiter)) {
+			counts.set(char as CsvDelimiter, (counts.get(char as CsvDelimiter) ?? 0) + 1);
+		}
+	}
+	let best: CsvDelimiter | null = null;
+	for (const d of DELIMITERS) {
+		if ((counts.get(d) ?? 0) > (best === null ? 0 : (counts.get(best) ?? 0))) best = d;
+	}
+	return best;
+}
+
+function toBuffer(chunk: unknown): Buffer {
+	if (typeof chunk === 'string') return Buffer.from(chunk, 'utf8');
+	if (chunk instanceof Uint8Array) {
+		return Buffer.from(chunk.buffer, chunk.byteOffset, chunk.byteLength);
+	}
+	throw new TypeError('expected a byte stream');
+}
+
+interface CsvRecord {
+	fields: string[];
+	/** line in the file where the record starts, from 1 */
+	line: number;
+}
+
+interface OpenCsv {
+	delimiter: CsvDelimiter;
+	headers: string[];
+	records: AsyncGenerator<CsvRecord, void, undefined>;
+}
+
+/** Reads up to the end of the first non-blank line, keeping the bytes to replay to the parser. */
+async function readHead(
+	iterator: AsyncIterator<unknown>
+): Promise<{ head: Buffer[]; firstLine: string }> {
+	const head: Buffer[] = [];
+	let size = 0;
+	for (;;) {
+		const next = await iterator.next();
+		if (next.done) break;
+		const chunk = toBuffer(next.value);
+		head.push(chunk);
+		size += chunk.length;
+		if (chunk.includes(0x0a) || chunk.includes(0x0d)) {
+			const text = Buffer.concat(head)
+				.toString('utf8')
+				.replace(/^\uFEFF/, '');
+			const match = /^\s*([^\r\n]*)[\r\n]/.exec(text);
+			if (match && match[1].trim() !== '') return { head, firstLine: match[1] };
+		}
+		if (size > MAX_LINE_BYTES) {
+			throw new ImportFileError(
+				'The first line is longer than 128 000 bytes; this does not look like a CSV file with a header row.'
+			);
+		}
+	}
+	const text = Buffer.concat(head)
+		.toString('utf8')
+		.replace(/^\uFEFF/, '');
+	return { head, firstLine: text.trim().split(/[\r\n]/)[0] ?? '' };
+}
+
+function headerProblem(headers: string[]): string | null {
+	const seen = new Map<string, number>();
+	for (const [i, name] of headers.entries()) {
+		if (name === '') {
+			return `Column ${i + 1} has no name in the header row; every column needs a name.`;
+		}
+		if (parseDecimal(name).ok || parseTimestamp(name).ok) {
+			return `The first line looks like data (${quote(name)}), not column names; add a header row naming the columns.`;
+		}
+		const key = name.toLowerCase();
+		const earlier = seen.get(key);
+		if (earlier !== undefined) {
+			return `The header row names ${quote(name)} twice (columns ${earlier + 1} and ${i + 1}); column names must be distinct.`;
+		}
+		seen.set(key, i);
+	}
+	return null;
+}
+
+async function openCsv(source: Readable, delimiterOverride?: CsvDelimiter): Promise<OpenCsv> {
+	const iterator = source[Symbol.asyncIterator]();
+	const refuse = async (message: string) => {
+		await iterator.return?.();
+		return new ImportFileError(message);
+	};
+	const { head, firstLine } = await readHead(iterator).catch(async (error: unknown) => {
+		await iterator.return?.();
+		throw error;
+	});
+	if (firstLine.trim() === '') throw await refuse('The file is empty.');
+	const delimiter = delimiterOverride ?? sniffDelimiter(firstLine);
+	if (delimiter === null) {
+		throw await refuse(
+			'The first line has no comma, semicolon or tab, so its columns cannot be told apart; a position file needs a header row with at least time, latitude and longitude columns.'
+		);
+	}
+
+	async function* replay() {
+		try {
+			yield* head;
+			for (;;) {
+				const next = await iterator.next();
+				if (next.done) return;
+				yield toBuffer(next.value);
+			}
+		} finally {
+			await iterator.return?.();
+		}
+	}
+	// Empty lines are not skipped by csv-parse but here, so that lines can be counted without its
+	// `info` option (which doubles the parse time and miscounts CRLF inside quoted fields).
+	const parser = parse({
+		delimiter,
+		bom: true,
+		trim: true,
+		relax_quotes: true,
+		relax_column_count: true
+	});
+	// Errors reach the consumer through the parser; the callback is only here to satisfy pipeline.
+	pipeline(replay, parser, () => {});
+
+	async function* records(): AsyncGenerator<CsvRecord, void, undefined> {
+		let lastLine = 0;
+		try {
+			for await (const fields of parser as AsyncIterable<string[]>) {
+				const line = lastLine + 1;
+				lastLine = line;
+				for (const field of fields) {
+					// a quoted field can span lines
+					if (field.includes('\n') || field.includes('\r')) {
+						lastLine += field.match(/\r\n|\r|\n/g)?.length ?? 0;
+					}
+				}
+				if (fields.every((field) => field.trim() === '')) continue;
+				yield { fields, line };
+			}
+		} catch (error) {
+			if (error instanceof CsvError) {
+				throw new ImportFileError(`This is not a readable CSV file: ${error.message}`);
+			}
+			throw error;
+		}
+	}
+
+	const all = records();
+	const first = await all.next();
+	if (first.done) throw new ImportFileError('The file is empty.');
+	const headers = first.value.fields.map((name) => name.trim());
+	while (headers.length > 1 && headers[headers.length - 1] === '') headers.pop();
+	const problem = headerProblem(headers);
+	if (problem !== null) {
+		await all.return();
+		throw new ImportFileError(problem);
+	}
+	if (headers.length < 2) {
+		await all.return();
+		throw new ImportFileError(
+			`The header row has one column only, read with the ${DELIMITER_NAMES[delimiter]} as separator; a position file needs at least time, latitude and longitude columns.`
+		);
+	}
+	return { delimiter, headers, records: all };
+}
+
+export interface CsvPreview {
+	delimiter: CsvDelimiter;
+	headers: string[];
+	/** the first data rows, cells as written (trimmed) */
+	rows: string[][];
+	suggested: Partial<CsvMapping>;
+}
+
+/** Reads only the header and the first `rows` data rows, then stops reading `source`. */
+export async function previewCsv(source: Readable, rows = 10): Promise<CsvPreview> {
+	const { delimiter, headers, records } = await openCsv(source);
+	const preview: string[][] = [];
+	try {
+		while (preview.length < rows) {
+			const next = await records.next();
+			if (next.done) break;
+			preview.push(next.value.fields);
+		}
+	} finally {
+		await records.return();
+	}
+	return { delimiter, headers, rows: preview, suggested: suggestMapping(headers) };
+}
+
+const OPTIONAL_FIELDS = ['semiMajorM', 'semiMinorM', 'orientationDeg', 'errorRadiusM'] as const;
+
+export async function* parseCsv(
+	source: Readable,
+	options: {
+		mapping: CsvMapping;
+		defaultClass?: LocationClass;
+		delimiter?: CsvDelimiter;
+		now: number;
+	}
+): AsyncGenerator<ParseItem, void, undefined> {
+	const { headers, records } = await openCsv(source, options.delimiter);
+	const checked = validateMapping(headers, options.mapping, options.defaultClass);
+	if (!checked.ok) {
+		await records.return();
+		throw new ImportFileError(
+			`The columns chosen do not fit this file: ${Object.values(checked.errors).join(' ')}`
+		);
+	}
+	const { mapping } = checked;
+	const index = (field: MappingField): number => {
+		const column = mapping[field];
+		return column === undefined ? -1 : headers.indexOf(column);
+	};
+	const at = { time: index('time'), lat: index('lat'), lon: index('lon'), lc: index('lc') };
+	const optional = OPTIONAL_FIELDS.map((field) => [field, index(field)] as const);
+	const rules = { now: options.now, defaultClass: checked.defaultClass ?? options.defaultClass };
+	const width = headers.length;
+
+	const field = (fields: string[], i: number): FieldValue | null =>
+		i < 0 ? null : { column: headers[i], value: fields[i] ?? '' };
+
+	for await (const { fields, line } of records) {
+		const extra = fields.slice(width).findIndex((cell) => cell !== '');
+		const problems =
+			extra >= 0
+				? [
+						{
+							row: line,
+							column: '',
+							message: `This row has ${fields.length} fields but the header names ${width} columns; check the separators and quotes.`
+						}
+					]
+				: [];
+		const input: RowInput = {
+			row: line,
+			time: field(fields, at.time),
+			lat: field(fields, at.lat),
+			lon: field(fields, at.lon),
+			lc: field(fields, at.lc),
+			semiMajorM: null,
+			semiMinorM: null,
+			orientationDeg: null,
+			errorRadiusM: null,
+			problems
+		};
+		for (const [name, i] of optional) input[name] = field(fields, i);
+		yield checkRow(input, rules);
+	}
+}
