@@ -9,6 +9,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import type { SessionUser } from '$lib/server/auth/lucia';
 import {
 	journeys,
+	organisationSettings,
 	patientEvents,
 	patients,
 	positionImports,
@@ -27,6 +28,7 @@ import { GET as journeyApi } from '../../src/routes/api/patients/[slug]/journey/
 import { GET as occurrencesApi } from '../../src/routes/api/patients/[slug]/occurrences.csv/+server';
 import { GET as staffTrackApi } from '../../src/routes/api/tracking/[slug]/[which]/+server';
 import { GET as journeyPng } from '../../src/routes/patients/[slug]/journey.png/+server';
+import { actions as deskRules } from '../../src/routes/staff/tracking/+page.server';
 import { actions as deskActions } from '../../src/routes/staff/tracking/[slug]/+page.server';
 import { useTestDatabase } from '../setup/test-db';
 import { publicEvent } from './public-event';
@@ -460,5 +462,30 @@ describe('the desk settings form', () => {
 			minimumClass: '1',
 			maxSpeedMs: 1.5
 		});
+	});
+
+	it('saves the organisation-wide rules only when they are sensible, and recomputes', async () => {
+		const tracker = await person(['tracker']);
+		const rules = (form: Record<string, string>) => {
+			const event = formEvent('', tracker, form) as unknown as { url: URL; params: object };
+			return deskRules.settings({ ...event, params: {} } as never);
+		};
+		const good = { waypointStepKm: '250', silenceDays: '20', inlandMetres: '8000' };
+		const none = await rules(good);
+		expect(isActionFailure(none) && none.status).toBe(409);
+
+		await db()
+			.insert(organisationSettings)
+			.values({ id: 1, displayName: 'Test', legalName: 'Test' });
+		const bad = await rules({ waypointStepKm: '0', silenceDays: 'soon', inlandMetres: '8000' });
+		expect(isActionFailure(bad)).toBe(true);
+		expect(JSON.stringify(bad)).toMatch(/waypoint step must be at least 50 km/);
+		expect(JSON.stringify(bad)).toMatch(/silence period as a whole number/);
+		const [unchanged] = await db().select().from(organisationSettings);
+		expect(unchanged).toMatchObject({ waypointStepKm: 500, silenceDays: 30, inlandMetres: 5000 });
+
+		expect(isActionFailure(await rules(good))).toBe(false);
+		const [saved] = await db().select().from(organisationSettings);
+		expect(saved).toMatchObject({ waypointStepKm: 250, silenceDays: 20, inlandMetres: 8000 });
 	});
 });

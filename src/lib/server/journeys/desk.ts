@@ -3,6 +3,7 @@ import { asc, desc, eq } from 'drizzle-orm';
 import { db, type Executor } from '../db';
 import {
 	journeys,
+	organisationSettings,
 	patients,
 	positionImports,
 	releases,
@@ -138,4 +139,46 @@ export async function setTransmitter(
 
 export async function recomputeNow(patientId: string, now: number = Date.now()) {
 	return db().transaction((tx) => recomputeJourney(tx, patientId, now));
+}
+
+export interface DeskSettingsInput {
+	waypointStepKm: number;
+	silenceDays: number;
+	inlandMetres: number;
+}
+
+/** The organisation-wide tracking rules, with the defaults when none have been saved. */
+export async function getDeskSettings(executor: Executor = db()): Promise<DeskSettingsInput> {
+	const [row] = await executor
+		.select({
+			waypointStepKm: organisationSettings.waypointStepKm,
+			silenceDays: organisationSettings.silenceDays,
+			inlandMetres: organisationSettings.inlandMetres
+		})
+		.from(organisationSettings);
+	return row ?? { waypointStepKm: 500, silenceDays: 30, inlandMetres: 5000 };
+}
+
+/**
+ * Saves the organisation-wide tracking rules and computes every tracked patient again, in one
+ * transaction. Refuses (returns false) when the organisation settings have not been saved yet.
+ */
+export async function saveDeskSettings(
+	input: DeskSettingsInput,
+	actorId: string,
+	now: number = Date.now()
+): Promise<boolean> {
+	return db().transaction(async (tx) => {
+		const updated = await tx
+			.update(organisationSettings)
+			.set(input)
+			.returning({ id: organisationSettings.id });
+		if (!updated.length) return false;
+		await audit(tx, actorId, 'tracking.desk_settings_changed', 'organisation', { ...input });
+		const tracked = await tx
+			.select({ patientId: trackingProfiles.patientId })
+			.from(trackingProfiles);
+		for (const { patientId } of tracked) await recomputeJourney(tx, patientId, now);
+		return true;
+	});
 }
