@@ -245,16 +245,17 @@ describe('importing positions', () => {
 			)
 		).rejects.toThrow();
 
-		// A reader that fails after 1,500 good rows (past the first batch written to the database).
+		// A reader that fails after 6,000 good rows (past the first batch of 5,000 written to the
+		// database).
 		async function* failing(): AsyncGenerator<ParseItem> {
-			for (let i = 0; i < 2000; i++) {
-				if (i === 1500) throw new Error('connection reset while reading the upload');
+			for (let i = 0; i < 7000; i++) {
+				if (i === 6000) throw new Error('connection reset while reading the upload');
 				yield {
 					ok: true,
 					position: {
 						row: i + 2,
 						time: RELEASE_MS + 20 * DAY + i * 3_600_000,
-						lat: 25 + i * 0.001,
+						lat: 25 + i * 0.0001,
 						lon: -60,
 						lc: '2',
 						semiMajorM: null,

@@ -1,6 +1,6 @@
 // One upload is one transaction: the rows, the import record, the cleaning verdicts and the
 // public projection are committed together, or nothing is.
-import { eq } from 'drizzle-orm';
+import { eq, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import { db, type Executor } from '../db';
 import { patients, positionImports, positions } from '../db/schema';
@@ -22,7 +22,7 @@ export interface ImportRequest {
 
 /** How many problems an import keeps for the report; the count covers them all. */
 export const PROBLEMS_KEPT = 1000;
-const BATCH = 1000;
+const BATCH = 5000;
 
 export interface ImportReport {
 	/** false: the file was refused as a whole and nothing was stored */
@@ -84,15 +84,31 @@ export async function importPositions(
 			});
 
 			let batch: PositionRow[] = [];
+			// One statement per batch with one array per column (unnest), rather than a VALUES
+			// list with a parameter per cell: several times faster on PGlite and PostgreSQL alike.
 			const flush = async () => {
 				if (!batch.length) return;
-				const added = await tx
-					.insert(positions)
-					.values(batch)
-					.onConflictDoNothing()
-					.returning({ id: positions.id });
-				report.rowsAdded += added.length;
-				report.rowsAlreadyStored += batch.length - added.length;
+				const column = <T>(pick: (row: PositionRow) => T) => sql.param(batch.map(pick));
+				const result = await tx.execute(sql`
+					INSERT INTO ${positions} (patient_id, transmitter_id, observed_at, latitude, longitude,
+						location_class, semi_major_m, semi_minor_m, orientation_deg, error_radius_m, import_id)
+					SELECT * FROM unnest(
+						${column((r) => r.patientId)}::text[],
+						${column((r) => r.transmitterId)}::text[],
+						${column((r) => (r.observedAt as Date).toISOString())}::timestamptz[],
+						${column((r) => r.latitude)}::float8[],
+						${column((r) => r.longitude)}::float8[],
+						${column((r) => r.locationClass)}::text[],
+						${column((r) => r.semiMajorM ?? null)}::real[],
+						${column((r) => r.semiMinorM ?? null)}::real[],
+						${column((r) => r.orientationDeg ?? null)}::real[],
+						${column((r) => r.errorRadiusM ?? null)}::real[],
+						${column((r) => r.importId ?? null)}::text[])
+					ON CONFLICT DO NOTHING
+					RETURNING 1`);
+				const added = (result as unknown as { rows: unknown[] }).rows.length;
+				report.rowsAdded += added;
+				report.rowsAlreadyStored += batch.length - added;
 				batch = [];
 			};
 

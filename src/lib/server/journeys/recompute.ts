@@ -81,7 +81,7 @@ async function completedRelease(tx: Executor, patientId: string) {
 	return row ?? null;
 }
 
-/** Writes the cleaning verdicts, 1,000 rows per statement. */
+/** Writes the cleaning verdicts that changed, 5,000 rows per statement (one array per column). */
 async function storeVerdicts(
 	tx: Executor,
 	verdicts: Array<{
@@ -91,18 +91,16 @@ async function storeVerdicts(
 		detail: string | null;
 	}>
 ): Promise<void> {
-	for (let i = 0; i < verdicts.length; i += 1000) {
-		const chunk = verdicts.slice(i, i + 1000);
-		const values = sql.join(
-			chunk.map(
-				(v) => sql`(${v.id}::bigint, ${v.status}::text, ${v.reason}::text, ${v.detail}::text)`
-			),
-			sql`, `
-		);
+	for (let i = 0; i < verdicts.length; i += 5000) {
+		const chunk = verdicts.slice(i, i + 5000);
 		await tx.execute(sql`
 			UPDATE ${positions} AS p
 			SET status = v.status, reject_reason = v.reason, reject_detail = v.detail
-			FROM (VALUES ${values}) AS v(id, status, reason, detail)
+			FROM unnest(
+				${sql.param(chunk.map((v) => v.id))}::bigint[],
+				${sql.param(chunk.map((v) => v.status))}::text[],
+				${sql.param(chunk.map((v) => v.reason))}::text[],
+				${sql.param(chunk.map((v) => v.detail))}::text[]) AS v(id, status, reason, detail)
 			WHERE p.id = v.id
 				AND (p.status IS DISTINCT FROM v.status
 					OR p.reject_reason IS DISTINCT FROM v.reason
