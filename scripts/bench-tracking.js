@@ -2,8 +2,8 @@
 // `npm run bench:tracking` (or `bench:landmask`): bundles scripts/bench/<name>.ts with esbuild and
 // runs it; the name is the first argument, `tracking` by default.
 import { build } from 'esbuild';
+import { spawnSync } from 'node:child_process';
 import { resolve } from 'node:path';
-import { pathToFileURL } from 'node:url';
 
 // Inside the project so the bundle resolves packages from node_modules.
 const name = process.argv[2] ?? 'tracking';
@@ -19,4 +19,7 @@ await build({
 	logLevel: 'warning'
 });
 console.log(`node ${process.version}, ${new Date().toISOString()}`);
-await import(pathToFileURL(outfile).href);
+// A process of its own, so that the bench can collect garbage between measures (--expose-gc)
+// and its peak memory is not the bundler's.
+const run = spawnSync(process.execPath, ['--expose-gc', outfile], { stdio: 'inherit' });
+process.exitCode = run.status ?? 1;

@@ -153,7 +153,7 @@ export async function recomputeJourney(
 	const landFilter = fixes.length
 		? landFilterFor(await loadLandMask({ inlandMetres: settings.inlandMetres }))
 		: undefined;
-	const { kept, rejected } = cleanTrack(fixes, {
+	const { kept, rejected, legMetres } = cleanTrack(fixes, {
 		minimumClass: profile.minimumClass,
 		maxSpeedMs: profile.maxSpeedMs ?? SPECIES_MAX_SPEED_MS[patient.species],
 		landFilter
@@ -168,7 +168,8 @@ export async function recomputeJourney(
 		}))
 	]);
 
-	const lastFixAt = fixes.length ? Math.max(...fixes.map((f) => f.time)) : null;
+	let lastFixAt: number | null = null;
+	for (const fix of fixes) if (lastFixAt === null || fix.time > lastFixAt) lastFixAt = fix.time;
 	const silent = transmitterSilent(lastFixAt, now, settings.silenceDays);
 	// Automatic milestones go only to patients shown normally (never for one that died).
 	const announces = patient.status === 'released' && patient.publicTreatment === 'shown';
@@ -182,7 +183,9 @@ export async function recomputeJourney(
 			now,
 			delayDays: profile.delayDays,
 			cellDeg: Number(profile.cellDeg) as CellDeg,
-			releasedAt: Date.parse(`${release.releaseOn}T00:00:00Z`)
+			releasedAt: Date.parse(`${release.releaseOn}T00:00:00Z`),
+			// the leg lengths the speed filter already measured with the geodesic library
+			legMetres
 		});
 		distanceMetres = journey.distanceMetres;
 		const geojson = toGeoJSON(journey);

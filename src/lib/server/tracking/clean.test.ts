@@ -160,6 +160,54 @@ describe('speed filter on synthetic tracks', () => {
 		}
 	});
 
+	it('agrees with the slow reference on random tracks with bursts of adjacent spikes', () => {
+		// syntheticTrack never puts two outliers side by side; here a burst often repeats its wrong
+		// position at the next fix, and vmax varies, so removals cascade through neighbours.
+		const random = mulberry32(1992);
+		const classes: LocationClass[] = ['3', '2', 'A', 'B'];
+		const wrapLon = (lon: number) => lon - Math.floor((lon + 180) / 360) * 360;
+		let removed = 0;
+		for (let round = 0; round < 150; round++) {
+			const n = 5 + Math.floor(random() * 80);
+			const vmax = 1 + random() * 3;
+			let lat = -60 + random() * 120;
+			let lon = -180 + random() * 360;
+			let time = T0;
+			const fixes: Fix[] = [];
+			for (let i = 0; i < n; i++) {
+				time += Math.floor((0.5 + random() * 6) * HOUR);
+				lat = Math.max(-80, Math.min(80, lat + (random() - 0.5) * 0.04));
+				lon = lon + (random() - 0.5) * 0.04;
+				const burst = random() < 0.08;
+				const jump = burst ? (0.5 + random() * 1.5) * (random() < 0.5 ? -1 : 1) : 0;
+				fixes.push({
+					id: `r${round}-${String(i).padStart(3, '0')}`,
+					time,
+					lat: lat + jump,
+					lon: wrapLon(lon - jump),
+					lc: classes[Math.floor(random() * classes.length)]
+				});
+				// a burst continues into the next fix half of the time: neighbouring outliers
+				if (burst && random() < 0.5 && i + 1 < n) {
+					time += Math.floor((0.5 + random() * 2) * HOUR);
+					i++;
+					fixes.push({
+						...fixes[fixes.length - 1],
+						id: `r${round}-${String(i).padStart(3, '0')}`,
+						time
+					});
+				}
+			}
+			const reference = referenceSpeedFilter(fixes, vmax);
+			const { kept, rejected } = cleanTrack(fixes, { maxSpeedMs: vmax });
+			expect(rejected.every((r) => r.reason === 'speed')).toBe(true);
+			expect(ids(kept)).toEqual(ids(reference.kept));
+			expect(rejected.map((r) => r.fix.id)).toEqual(ids(reference.removed));
+			removed += reference.removed.length;
+		}
+		expect(removed).toBeGreaterThan(150);
+	});
+
 	it('a fact of the trade (common practice): released turtles cover thousands of kilometres in a few months — a ~3 700 km (2 300 mi), 135-day synthetic journey passes untouched', () => {
 		const { fixes } = syntheticTrack({
 			seed: 2300,
@@ -338,8 +386,12 @@ describe('cleanTrack: every step and reason', () => {
 	});
 
 	it('handles an empty or one-fix track, and two fixes too far apart', () => {
-		expect(cleanTrack([])).toEqual({ kept: [], rejected: [] });
-		expect(cleanTrack([good[0]])).toEqual({ kept: [good[0]], rejected: [] });
+		expect(cleanTrack([])).toEqual({ kept: [], rejected: [], legMetres: new Float64Array(0) });
+		expect(cleanTrack([good[0]])).toEqual({
+			kept: [good[0]],
+			rejected: [],
+			legMetres: new Float64Array(0)
+		});
 		// Two fixes 1° apart in an hour (≈ 31 m/s): equal values, the worse class goes.
 		const far = [onMeridian('x', 0, 0, '3'), onMeridian('y', 1, 100, 'A')];
 		const { kept, rejected } = cleanTrack(far);

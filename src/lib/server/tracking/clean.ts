@@ -40,6 +40,12 @@ export interface CleanResult {
 	/** the cleaned track, in time order (the input objects, not copies) */
 	kept: Fix[];
 	rejected: Rejected[];
+	/**
+	 * `legMetres[i]` is `geodesicDistance(kept[i], kept[i + 1])`, computed by the speed filter
+	 * anyway; hand it to `publicProjection` so the track is not measured twice. Length
+	 * `kept.length − 1` (0 for an empty track).
+	 */
+	legMetres: Float64Array;
 }
 
 export function cleanTrack(fixes: readonly Fix[], options: CleanOptions = {}): CleanResult {
@@ -100,7 +106,8 @@ export function cleanTrack(fixes: readonly Fix[], options: CleanOptions = {}): C
 		}
 	}
 
-	return { kept: speedFilter(track, maxSpeedMs, rejected), rejected };
+	const { kept, legMetres } = speedFilter(track, maxSpeedMs, rejected);
+	return { kept, rejected, legMetres };
 }
 
 function coordinateProblem(fix: Fix): string | null {
@@ -204,9 +211,13 @@ function samePlaceKey(fix: Fix): string {
  * inequality (d(a,c) ≤ d(a,b) + d(b,c)) cannot already prove the fix is under `vmax`, so a
  * clean track costs about one geodesic per fix. Overall O(n log n).
  */
-function speedFilter(track: Fix[], vmax: number, rejected: Rejected[]): Fix[] {
+function speedFilter(
+	track: Fix[],
+	vmax: number,
+	rejected: Rejected[]
+): { kept: Fix[]; legMetres: Float64Array } {
 	const n = track.length;
-	if (n < 2) return track;
+	if (n < 2) return { kept: track, legMetres: new Float64Array(0) };
 
 	const time = new Float64Array(n);
 	const rank = new Uint8Array(n);
@@ -313,9 +324,13 @@ function speedFilter(track: Fix[], vmax: number, rejected: Rejected[]): Fix[] {
 		refresh(n2);
 	}
 
+	// d1 of a live fix is the distance to the next live fix, measured with the same arguments in
+	// the same order as the projection would, so handing it on changes no result.
 	const kept: Fix[] = [];
 	for (let i = 0; i < n; i++) if (alive[i]) kept.push(track[i]);
-	return kept;
+	const legMetres = new Float64Array(Math.max(kept.length - 1, 0));
+	for (let i = 0, k = 0; i < n; i++) if (alive[i] && next[i] >= 0) legMetres[k++] = d1[i];
+	return { kept, legMetres };
 }
 
 /**

@@ -1,8 +1,11 @@
 import { describe, expect, it } from 'vitest';
+import { cleanTrack } from './clean';
 import { geodesicDistance, trackLength } from './geodesy';
 import {
 	CELL_SIZES,
 	METRES_PER_MILE,
+	cellCentre,
+	cellOf,
 	distanceRounded,
 	publicProjection,
 	snapToCell,
@@ -11,6 +14,7 @@ import {
 	type JourneyGeoJSON,
 	type PublicJourney
 } from './projection';
+import { syntheticTrack } from './synthetic';
 import type { Fix } from './types';
 
 const DAY = 86_400_000;
@@ -427,5 +431,173 @@ describe('leak check: random tracks (seeded)', () => {
 		expect(onCentreGrid(17.953, 0.1)).toBe(false);
 		expect(onCentreGrid(17.125, 0.25)).toBe(true);
 		expect(onCentreGrid(17.25, 0.25)).toBe(false);
+	});
+});
+
+describe('publicProjection: the fast path gives the same journey as the plain rule', () => {
+	/**
+	 * The projection done the plain way: filter, sort, geodesicDistance for every public leg,
+	 * a date string per fix and centres rounded with Number.prototype.toFixed (ECMA-262 §21.1.3.3:
+	 * the decimal nearest the value). The module skips the sort for a track in time order, makes
+	 * one date string per day, computes centres without strings and can take the leg lengths
+	 * from cleanTrack; none of that may change a bit of the result.
+	 */
+	function referenceProjection(
+		cleaned: readonly Fix[],
+		now: number,
+		delayDays: number,
+		cellDeg: CellDeg,
+		releasedAt?: number
+	): PublicJourney {
+		const cutoff = now - delayDays * DAY;
+		const visible = cleaned
+			.filter((f) => f.time <= cutoff && (releasedAt === undefined || f.time >= releasedAt))
+			.sort((a, b) => a.time - b.time);
+		const k = Math.round(1 / cellDeg);
+		const d = cellDeg === 0.25 ? 3 : 2;
+		const centre = (i: number, offset: number) =>
+			Number(((2 * i + 1 - offset * k) / (2 * k)).toFixed(d));
+		const date = (ms: number) => new Date(ms).toISOString().slice(0, 10);
+		let distanceMetres = 0;
+		const points: PublicJourney['points'] = [];
+		let last = '';
+		visible.forEach((f, i) => {
+			if (i > 0) distanceMetres += geodesicDistance(visible[i - 1], f);
+			const { row, col } = cellOf(f.lat, f.lon, cellDeg);
+			const key = `${row}/${col}`;
+			if (key === last) points[points.length - 1].lastDate = date(f.time);
+			else {
+				points.push({
+					lat: centre(row, 180),
+					lon: centre(col, 360),
+					firstDate: date(f.time),
+					lastDate: date(f.time)
+				});
+				last = key;
+			}
+		});
+		return {
+			cellDeg,
+			delayDays,
+			cutoffDate: date(cutoff),
+			lastPublicDate: visible.length ? date(visible[visible.length - 1].time) : null,
+			distanceMetres,
+			points
+		};
+	}
+
+	const start = Date.UTC(2024, 0, 1);
+	const cases = [1, 2, 3, 4, 5, 6].map((seed) => {
+		const { fixes } = syntheticTrack({
+			seed,
+			start: { lat: -40 + seed * 12, lon: 170 + seed * 0.5 }, // some cross the antimeridian
+			startTime: start,
+			days: 90,
+			fixesPerDay: 6,
+			headingDeg: seed * 60,
+			speedKmh: 1.5,
+			spikeFraction: 0.05,
+			zFraction: 0.02
+		});
+		return { seed, fixes, clean: cleanTrack(fixes) };
+	});
+
+	it('cleanTrack hands on one leg length per pair of kept fixes, equal to geodesicDistance', () => {
+		for (const { clean } of cases) {
+			expect(clean.rejected.some((r) => r.reason === 'speed')).toBe(true);
+			expect(clean.legMetres).toHaveLength(clean.kept.length - 1);
+			clean.legMetres.forEach((leg, i) =>
+				expect(leg).toBe(geodesicDistance(clean.kept[i], clean.kept[i + 1]))
+			);
+		}
+	});
+
+	it('is identical with and without the leg lengths, and to the plain rule', () => {
+		const random = prng(77);
+		let runs = 0;
+		for (const { fixes, clean } of cases) {
+			for (let round = 0; round < 6; round++) {
+				const cellDeg = CELL_SIZES[round % CELL_SIZES.length];
+				const delayDays = 7 + Math.floor(random() * 5);
+				// the cutoff and the release fall inside the track, so both ends are cut
+				const now = start + Math.floor((20 + random() * 80) * DAY);
+				const releasedAt = round % 2 === 0 ? undefined : start + Math.floor(random() * 15 * DAY);
+				const options = { now, delayDays, cellDeg, releasedAt };
+				const expected = referenceProjection(clean.kept, now, delayDays, cellDeg, releasedAt);
+				const plain = publicProjection(clean.kept, options);
+				const reused = publicProjection(clean.kept, { ...options, legMetres: clean.legMetres });
+				expect(plain).toEqual(expected);
+				expect(reused).toEqual(expected);
+				expect(reused.distanceMetres).toBe(expected.distanceMetres);
+				expect(plain.distanceMetres).toBe(expected.distanceMetres);
+				// out of time order: the plain path sorts and must still agree
+				const shuffled = [...fixes].reverse();
+				expect(publicProjection(shuffled, options)).toEqual(
+					referenceProjection(shuffled, now, delayDays, cellDeg, releasedAt)
+				);
+				runs++;
+			}
+		}
+		expect(runs).toBe(36);
+	});
+
+	it('sums exactly the given legs of the public run', () => {
+		const track = [1, 2, 3, 4, 5, 6].map((d) => fix(day(d), 10 + d * 0.2, 20));
+		// powers of two: the sum says which legs were added
+		const legMetres = [1, 2, 4, 8, 16];
+		const j = publicProjection(track, {
+			now: day(5) + 7 * DAY, // fixes of days 1–5 are public
+			releasedAt: day(2), // …from day 2
+			legMetres
+		});
+		expect(j.distanceMetres).toBe(2 + 4 + 8);
+	});
+
+	it('refuses leg lengths that cannot belong to the track, with a clear message', () => {
+		const track = [fix(day(1), 10, 20), fix(day(2), 10.5, 20), fix(day(3), 11, 20)];
+		expect(() => publicProjection(track, { now: NOW, legMetres: [1] })).toThrow(
+			/one length per leg \(2\), got 1/
+		);
+		expect(() =>
+			publicProjection([track[1], track[0], track[2]], { now: NOW, legMetres: [1, 2] })
+		).toThrow(/time order/);
+		expect(() => publicProjection(track, { now: NOW, legMetres: [1, Number.NaN] })).toThrow(
+			/legMetres\[1\] is not a length/
+		);
+		expect(() => publicProjection(track, { now: NOW, legMetres: [-1, 2] })).toThrow(RangeError);
+		expect(publicProjection([], { now: NOW, legMetres: [] }).distanceMetres).toBe(0);
+	});
+
+	it('dates change exactly at UTC midnight, before 1970 too', () => {
+		const at = (ms: number) => ({ id: `m${ms}`, time: ms, lat: 0.01, lon: 0.01, lc: 'G' as const });
+		for (const midnight of [Date.UTC(2024, 2, 1), 0]) {
+			const j = publicProjection([at(midnight - 1), at(midnight), at(midnight + 1)], {
+				now: midnight + 30 * DAY
+			});
+			expect(j.points).toEqual([
+				{
+					lat: 0.05,
+					lon: 0.05,
+					firstDate: new Date(midnight - 1).toISOString().slice(0, 10),
+					lastDate: new Date(midnight).toISOString().slice(0, 10)
+				}
+			]);
+			expect(j.points[0].firstDate).not.toBe(j.points[0].lastDate);
+		}
+	});
+
+	it('every cell centre equals the decimal value rounded with toFixed (all cells, all sizes)', () => {
+		for (const cellDeg of CELL_SIZES) {
+			const k = Math.round(1 / cellDeg);
+			const d = cellDeg === 0.25 ? 3 : 2;
+			for (let i = 0; i < 360 * k; i++) {
+				const row = Math.min(i, 180 * k - 1);
+				const { lat, lon } = cellCentre(row, i, cellDeg);
+				expect(lon).toBe(Number(((2 * i + 1 - 360 * k) / (2 * k)).toFixed(d)));
+				expect(lat).toBe(Number(((2 * row + 1 - 180 * k) / (2 * k)).toFixed(d)));
+			}
+		}
+		expect(cellCentre(0, 0, 0.1)).toEqual({ lat: -89.95, lon: -179.95 });
+		expect(cellCentre(1079, 1133, 0.1)).toEqual({ lat: 17.95, lon: -66.65 });
 	});
 });

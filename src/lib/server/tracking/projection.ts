@@ -52,6 +52,12 @@ export interface ProjectionOptions {
 	cellDeg?: CellDeg;
 	/** ms since epoch; fixes before the release (e.g. tests in the pool) are ignored */
 	releasedAt?: number;
+	/**
+	 * Leg lengths already measured: `legMetres[i]` = `geodesicDistance(cleaned[i], cleaned[i + 1])`,
+	 * as `cleanTrack` returns them. The track must then be in time order (as `cleanTrack` returns
+	 * it). The distance is the same to the last bit as without them; only the work is saved.
+	 */
+	legMetres?: ArrayLike<number>;
 }
 
 export function isCellDeg(value: unknown): value is CellDeg {
@@ -94,22 +100,23 @@ export function cellOf(lat: number, lon: number, cellDeg: CellDeg): { row: numbe
 	return { row: index(lat + 90, k, 180 * k), col: index(lon + 180, k, 360 * k) };
 }
 
-function round(value: number, decimals: number): number {
-	const r = Number(value.toFixed(decimals));
-	return r === 0 ? 0 : r; // no "-0" in JSON
-}
-
-/** Centre of cell (row, col): computed from integers, e.g. (2·row + 1 − 180k) / 2k. */
+/**
+ * Centre of cell (row, col): computed from integers, (2·row + 1 − 180k) / 2k. In units of the
+ * last decimal the centre is the integer (2·row + 1 − 180k) · 10^d / 2k (10^d / 2k is 5, 125, 25
+ * or 50), so one division gives the double nearest the decimal value, the same number as
+ * `Number(x.toFixed(d))` without making a string (projection.test.ts checks every cell).
+ */
 export function cellCentre(
 	row: number,
 	col: number,
 	cellDeg: CellDeg
 ): { lat: number; lon: number } {
 	const k = cellsPerDegree(cellDeg);
-	const d = centreDecimals(cellDeg);
+	const scale = 10 ** centreDecimals(cellDeg);
+	const step = scale / (2 * k);
 	return {
-		lat: round((2 * row + 1 - 180 * k) / (2 * k), d),
-		lon: round((2 * col + 1 - 360 * k) / (2 * k), d)
+		lat: ((2 * row + 1 - 180 * k) * step) / scale,
+		lon: ((2 * col + 1 - 360 * k) * step) / scale
 	};
 }
 
@@ -153,24 +160,58 @@ export function publicProjection(
 		throw new RangeError(`cellDeg must be one of ${CELL_SIZES.join(', ')}, got ${cellDeg}`);
 	}
 	const cutoff = now - delayDays * DAY_MS;
-
-	const visible = cleaned
-		.filter((f) => f.time <= cutoff && (releasedAt === undefined || f.time >= releasedAt))
-		.sort((a, b) => a.time - b.time);
+	const { legMetres } = options;
+	const inOrder = isTimeOrdered(cleaned);
+	if (legMetres !== undefined) {
+		if (!inOrder) {
+			throw new RangeError(
+				'legMetres needs the cleaned track in time order, as cleanTrack gives it'
+			);
+		}
+		if (legMetres.length !== Math.max(cleaned.length - 1, 0)) {
+			throw new RangeError(
+				`legMetres must hold one length per leg (${Math.max(cleaned.length - 1, 0)}), got ${legMetres.length}`
+			);
+		}
+	}
+	const isPublic = (f: Fix) =>
+		f.time <= cutoff && (releasedAt === undefined || f.time >= releasedAt);
+	// A track in time order (cleanTrack's output) is read in place: sorting would not move it.
+	const track = inOrder ? cleaned : cleaned.filter(isPublic).sort((a, b) => a.time - b.time);
 
 	let distanceMetres = 0;
 	const points: PublicPoint[] = [];
 	let lastRow = -1;
 	let lastCol = -1;
-	for (let i = 0; i < visible.length; i++) {
-		const fix = visible[i];
-		if (i > 0) distanceMetres += geodesicDistance(visible[i - 1], fix);
+	let last = -1;
+	let lastDay = Number.NaN;
+	let date = '';
+	for (let i = 0; i < track.length; i++) {
+		const fix = track[i];
+		if (!isPublic(fix)) continue;
+		// In time order the public fixes are one run, so the previous public fix is track[i − 1].
+		if (last >= 0 && legMetres !== undefined) {
+			const leg = legMetres[i - 1];
+			if (!(leg >= 0 && leg < Infinity)) {
+				throw new RangeError(`legMetres[${i - 1}] is not a length in metres: ${leg}`);
+			}
+			distanceMetres += leg;
+		} else if (last >= 0) {
+			distanceMetres += geodesicDistance(track[last], fix);
+		}
+		last = i;
 		const { row, col } = cellOf(fix.lat, fix.lon, cellDeg);
-		const date = utcDate(fix.time);
+		// The date string depends only on the UTC day: make it once per day, not once per fix.
+		const day = Math.floor(fix.time / DAY_MS);
+		if (day !== lastDay) {
+			lastDay = day;
+			date = utcDate(fix.time);
+		}
 		if (points.length > 0 && row === lastRow && col === lastCol) {
 			points[points.length - 1].lastDate = date;
 		} else {
-			points.push({ ...cellCentre(row, col, cellDeg), firstDate: date, lastDate: date });
+			const centre = cellCentre(row, col, cellDeg);
+			points.push({ lat: centre.lat, lon: centre.lon, firstDate: date, lastDate: date });
 			lastRow = row;
 			lastCol = col;
 		}
@@ -180,10 +221,18 @@ export function publicProjection(
 		cellDeg,
 		delayDays,
 		cutoffDate: utcDate(cutoff),
-		lastPublicDate: visible.length > 0 ? utcDate(visible[visible.length - 1].time) : null,
+		lastPublicDate: last >= 0 ? utcDate(track[last].time) : null,
 		distanceMetres,
 		points
 	};
+}
+
+/** True when times never decrease; a NaN time counts as out of order. */
+function isTimeOrdered(fixes: readonly Fix[]): boolean {
+	for (let i = 1; i < fixes.length; i++) {
+		if (!(fixes[i].time >= fixes[i - 1].time)) return false;
+	}
+	return true;
 }
 
 export type DistanceUnit = 'km' | 'mi';
