@@ -31,7 +31,10 @@ export default ts.config(
 		},
 		rules: {
 			'@typescript-eslint/no-floating-promises': 'error',
-			'@typescript-eslint/no-unused-vars': ['error', { argsIgnorePattern: '^_' }]
+			'@typescript-eslint/no-unused-vars': [
+				'error',
+				{ argsIgnorePattern: '^_', varsIgnorePattern: '^_', ignoreRestSiblings: true }
+			]
 		}
 	},
 	{

@@ -7,6 +7,7 @@ import { readSession } from '$lib/server/auth/session';
 import { closeDatabase, openDatabase } from '$lib/server/db';
 import { DataDirLockedError } from '$lib/server/db/lock';
 import { startMail, stopMail } from '$lib/server/mail/service';
+import { fakeMode, startFakeStripe, stopFakeStripe } from '$lib/server/payments/fake';
 import { startJourneyScheduler, stopJourneyScheduler } from '$lib/server/journeys/scheduler';
 import { startStoryScheduler, stopStoryScheduler } from '$lib/server/newsroom/scheduler';
 
@@ -22,6 +23,15 @@ export const init: ServerInit = async () => {
 		throw error;
 	}
 	const mail = await startMail();
+	if (fakeMode()) {
+		// No real payment key: the local test payment service answers the SDK instead.
+		const { appOrigin } = await import('$lib/server/config');
+		await startFakeStripe({
+			dataDir: process.env.DATA_DIR ?? './data/tideward',
+			origin: appOrigin(),
+			webhookUrl: `${appOrigin()}/api/webhooks/stripe`
+		});
+	}
 	startStoryScheduler();
 	await ensureFirstAdmin();
 	if (process.env.TIDEWARD_DEMO === '1') {
@@ -34,9 +44,12 @@ export const init: ServerInit = async () => {
 	}
 	startJourneyScheduler();
 	process.once('sveltekit:shutdown', () => {
-		void Promise.allSettled([stopMail(), stopStoryScheduler(), stopJourneyScheduler()]).finally(
-			() => closeDatabase()
-		);
+		void Promise.allSettled([
+			stopMail(),
+			stopStoryScheduler(),
+			stopJourneyScheduler(),
+			stopFakeStripe()
+		]).finally(() => closeDatabase());
 	});
 };
 

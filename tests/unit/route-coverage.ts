@@ -13,7 +13,10 @@ export const PUBLIC_API: Record<string, string> = {
 	'api/patients/[slug]': 'public data for visitors',
 	'api/patients/[slug]/journey': 'the public projection only: delayed, coarse cells, dates only',
 	'api/patients/[slug]/occurrences.csv': 'Darwin Core export of the public projection only',
-	'api/stories': 'public data for visitors'
+	'api/stories': 'public data for visitors',
+	'api/webhooks/stripe': 'the payment processor; every request must carry a valid signature',
+	'api/adoptions/session/[id]':
+		'the thank-you page; the checkout session id is an unguessable capability held by the payer'
 };
 
 const HANDLERS = ['GET', 'POST', 'PUT', 'PATCH', 'DELETE', 'OPTIONS', 'HEAD', 'fallback'];

@@ -1,5 +1,6 @@
 import { fail } from '@sveltejs/kit';
 import { z } from 'zod';
+import { accountAdoptions } from '$lib/server/adoptions/account';
 import { changePassword } from '$lib/server/auth/accounts';
 import { requireRoles } from '$lib/server/auth/roles';
 import { newPassword, parseForm, fieldError } from '$lib/server/forms';
@@ -16,9 +17,14 @@ const passwordForm = z
 		message: 'The two passwords differ.'
 	});
 
-export const load: PageServerLoad = (event) => {
+export const load: PageServerLoad = async (event) => {
 	const user = requireRoles(event);
-	return { account: { name: user.name, email: user.email, roles: user.roles } };
+	const adoptions = await accountAdoptions(user.id);
+	return {
+		account: { name: user.name, email: user.email, roles: user.roles },
+		// The supporter's own adoptions; the payer's e-mail stays on the server.
+		adoptions: adoptions.map(({ supporterEmail: _payer, ...rest }) => rest)
+	};
 };
 
 export const actions: Actions = {

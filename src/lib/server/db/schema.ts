@@ -556,3 +556,149 @@ export const journeys = pgTable('journeys', {
 	cutoffDate: date('cutoff_date', { mode: 'string' }).notNull(),
 	computedAt: timestamp('computed_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow()
 });
+
+// ---------------------------------------------------------------------------------------------
+// Adoptions and money. Amounts are integer minor units (cents) with a currency, never floats.
+
+export const LEVEL_INTERVALS = ['once', 'month'] as const;
+export type LevelInterval = (typeof LEVEL_INTERVALS)[number];
+export const LEVEL_KINDS = ['individual', 'classroom'] as const;
+
+/** What a supporter can choose when adopting; edited by development staff. */
+export const adoptionLevels = pgTable('adoption_levels', {
+	id: text('id').primaryKey(),
+	slug: text('slug').notNull().unique(),
+	name: text('name').notNull(),
+	description: text('description').notNull().default(''),
+	amountCents: integer('amount_cents').notNull(),
+	currency: text('currency').notNull().default('usd'),
+	interval: text('interval', { enum: LEVEL_INTERVALS }).notNull(),
+	kind: text('kind', { enum: LEVEL_KINDS }).notNull().default('individual'),
+	/** What the supporter receives (e.g. a keepsake kit); empty when nothing. */
+	goods: text('goods').notNull().default(''),
+	/** Fair market value of the goods, set by staff; 0 when nothing is received. */
+	fairMarketValueCents: integer('fair_market_value_cents').notNull().default(0),
+	active: boolean('active').notNull().default(true),
+	position: integer('position').notNull().default(0),
+	...timestamps
+});
+
+export const ADOPTION_KINDS = ['self', 'gift', 'classroom'] as const;
+export type AdoptionKind = (typeof ADOPTION_KINDS)[number];
+export const ADOPTION_STATUSES = ['pending', 'active', 'ended', 'cancelled', 'failed'] as const;
+export type AdoptionStatus = (typeof ADOPTION_STATUSES)[number];
+
+/**
+ * One adoption: who adopted which patient at which level, as themselves, as a gift or for a
+ * classroom. Created when checkout starts (pending) and made active by the processor's events.
+ */
+export const adoptions = pgTable(
+	'adoptions',
+	{
+		id: text('id').primaryKey(),
+		patientId: text('patient_id')
+			.notNull()
+			.references(() => patients.id, { onDelete: 'restrict' }),
+		levelId: text('level_id')
+			.notNull()
+			.references(() => adoptionLevels.id, { onDelete: 'restrict' }),
+		kind: text('kind', { enum: ADOPTION_KINDS }).notNull(),
+		status: text('status', { enum: ADOPTION_STATUSES }).notNull().default('pending'),
+		interval: text('interval', { enum: LEVEL_INTERVALS }).notNull(),
+		amountCents: integer('amount_cents').notNull(),
+		currency: text('currency').notNull(),
+		fairMarketValueCents: integer('fair_market_value_cents').notNull().default(0),
+		/** The account that paid, when signed in (or once claimed by e-mail). */
+		supporterId: text('supporter_id').references(() => users.id, { onDelete: 'set null' }),
+		supporterEmail: text('supporter_email').notNull(),
+		supporterName: text('supporter_name').notNull(),
+		recipientName: text('recipient_name'),
+		recipientEmail: text('recipient_email'),
+		giftMessage: text('gift_message'),
+		deliverOn: date('deliver_on', { mode: 'string' }),
+		recipientId: text('recipient_id').references(() => users.id, { onDelete: 'set null' }),
+		teacherName: text('teacher_name'),
+		schoolName: text('school_name'),
+		classSize: integer('class_size'),
+		checkoutSessionId: text('checkout_session_id').unique(),
+		customerId: text('customer_id'),
+		subscriptionId: text('subscription_id').unique(),
+		startedAt: timestamp('started_at', { withTimezone: true, mode: 'date' }),
+		endedAt: timestamp('ended_at', { withTimezone: true, mode: 'date' }),
+		...timestamps
+	},
+	(t) => [
+		index('adoptions_patient_idx').on(t.patientId, t.status),
+		index('adoptions_supporter_idx').on(t.supporterId),
+		index('adoptions_supporter_email_idx').on(t.supporterEmail)
+	]
+);
+
+export const GIFT_STATUSES = [
+	'paid',
+	'failed',
+	'refunded',
+	'partially_refunded',
+	'disputed'
+] as const;
+export type GiftStatus = (typeof GIFT_STATUSES)[number];
+
+/**
+ * One payment for an adoption (the first, or a monthly renewal), tied to every processor object
+ * the Ledger reconciles against.
+ */
+export const gifts = pgTable(
+	'gifts',
+	{
+		id: text('id').primaryKey(),
+		adoptionId: text('adoption_id')
+			.notNull()
+			.references(() => adoptions.id, { onDelete: 'restrict' }),
+		status: text('status', { enum: GIFT_STATUSES }).notNull(),
+		amountCents: integer('amount_cents').notNull(),
+		currency: text('currency').notNull(),
+		feeCents: integer('fee_cents'),
+		netCents: integer('net_cents'),
+		refundedCents: integer('refunded_cents').notNull().default(0),
+		fairMarketValueCents: integer('fair_market_value_cents').notNull().default(0),
+		checkoutSessionId: text('checkout_session_id'),
+		paymentIntentId: text('payment_intent_id'),
+		chargeId: text('charge_id').unique(),
+		invoiceId: text('invoice_id').unique(),
+		subscriptionId: text('subscription_id'),
+		customerId: text('customer_id'),
+		balanceTransactionId: text('balance_transaction_id'),
+		payoutId: text('payout_id'),
+		disputeId: text('dispute_id'),
+		disputeStatus: text('dispute_status'),
+		failureMessage: text('failure_message'),
+		paidAt: timestamp('paid_at', { withTimezone: true, mode: 'date' }),
+		...timestamps
+	},
+	(t) => [
+		index('gifts_adoption_idx').on(t.adoptionId),
+		uniqueIndex('gifts_payment_intent_unique').on(t.paymentIntentId)
+	]
+);
+
+/** Processor events already applied: the id is stored in the same transaction as the effects. */
+export const processorEvents = pgTable('processor_events', {
+	id: text('id').primaryKey(),
+	type: text('type').notNull(),
+	/** The processor's `created` time of the event. */
+	createdAt: timestamp('created_at', { withTimezone: true, mode: 'date' }).notNull(),
+	processedAt: timestamp('processed_at', { withTimezone: true, mode: 'date' })
+		.notNull()
+		.defaultNow()
+});
+
+/** Payouts from the processor to the bank, for the Ledger. */
+export const payouts = pgTable('payouts', {
+	id: text('id').primaryKey(),
+	status: text('status').notNull(),
+	amountCents: integer('amount_cents').notNull(),
+	currency: text('currency').notNull(),
+	arrivalDate: timestamp('arrival_date', { withTimezone: true, mode: 'date' }),
+	failureMessage: text('failure_message'),
+	...timestamps
+});

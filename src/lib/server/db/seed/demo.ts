@@ -6,6 +6,7 @@ import { renderMarkdown } from '../../newsroom/markdown';
 import { syntheticTrack } from '../../tracking/synthetic';
 import type { Database } from '../index';
 import {
+	adoptionLevels,
 	auditLog,
 	organisationSettings,
 	patientEvents,
@@ -850,6 +851,44 @@ export async function seedDemo(database: Database, now: Date = new Date()): Prom
 				subject: patientIds.get('luz')!,
 				details: { from: 'shown', to: 'memorial' },
 				at: daysAgo(now, 72)
+			}
+		]);
+
+		// Adoption levels (staff can edit them; amounts in cents, fair market value set by staff).
+		await tx.insert(adoptionLevels).values([
+			{
+				id: randomUUID(),
+				slug: 'ripple',
+				name: 'Ripple',
+				description: 'A digital adoption: certificate, photo and news of your patient by e-mail.',
+				amountCents: 2500,
+				interval: 'once' as const,
+				kind: 'individual' as const,
+				position: 1
+			},
+			{
+				id: randomUUID(),
+				slug: 'swell',
+				name: 'Swell',
+				description: 'A monthly adoption with a keepsake kit sent once by post.',
+				amountCents: 1500,
+				interval: 'month' as const,
+				kind: 'individual' as const,
+				goods: 'a keepsake kit (plush turtle and printed photo)',
+				fairMarketValueCents: 1200,
+				position: 2
+			},
+			{
+				id: randomUUID(),
+				slug: 'reef-classroom',
+				name: 'Reef Classroom',
+				description: 'An adoption for a class, with a lesson pack and a certificate for the wall.',
+				amountCents: 6000,
+				interval: 'once' as const,
+				kind: 'classroom' as const,
+				goods: 'a printed lesson pack',
+				fairMarketValueCents: 800,
+				position: 3
 			}
 		]);
 

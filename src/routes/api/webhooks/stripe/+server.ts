@@ -1,0 +1,29 @@
+import { json } from '@sveltejs/kit';
+import type Stripe from 'stripe';
+import { stripe, webhookSecret } from '$lib/server/payments/client';
+import { applyEvent } from '$lib/server/payments/events';
+import type { RequestHandler } from './$types';
+
+/**
+ * The processor's webhook. The signature is checked on the raw body (400 and nothing written
+ * when it fails); the event id is stored in the same transaction as its effects; 2xx only after
+ * the commit, 5xx on any failure so the sender retries.
+ */
+export const POST: RequestHandler = async ({ request }) => {
+	const signature = request.headers.get('stripe-signature');
+	const body = await request.text();
+	if (!signature) return json({ error: 'Missing Stripe-Signature header.' }, { status: 400 });
+	let event: Stripe.Event;
+	try {
+		event = await stripe().webhooks.constructEventAsync(body, signature, webhookSecret());
+	} catch (error) {
+		return json({ error: `Signature check failed: ${(error as Error).message}` }, { status: 400 });
+	}
+	try {
+		const outcome = await applyEvent(event);
+		return json({ received: true, outcome });
+	} catch (error) {
+		console.error(`Applying ${event.type} ${event.id} failed:`, error);
+		return json({ error: 'The event could not be applied; please retry.' }, { status: 500 });
+	}
+};

@@ -1,0 +1,60 @@
+import { describe, expect, it } from 'vitest';
+import { demoUser, newPage, openForm, signIn, useBrowser } from './browser';
+
+const browser = useBrowser();
+
+describe('adopting a patient', () => {
+	it('patient page → level → test checkout with 4242… → thank-you → the account lists it', async () => {
+		const { context, page } = await newPage(browser());
+		await signIn(page, demoUser('supporter').email);
+		await openForm(page, '/patients/coralina');
+		await Promise.all([
+			page.waitForURL('**/patients/coralina/adopt'),
+			page.getByRole('link', { name: 'Adopt Coralina' }).click()
+		]);
+		await page.locator('html[data-hydrated]').waitFor({ state: 'attached' });
+		await page.getByRole('radio', { name: /Ripple/ }).check();
+		await Promise.all([
+			page.waitForURL(/\/fake-stripe\/checkout\//),
+			page.getByRole('button', { name: 'Continue to payment' }).click()
+		]);
+		await page.getByLabel('Card number').fill('4242 4242 4242 4242');
+		await page.getByLabel('Expiry (MM / YY)').fill('12 / 34');
+		await page.getByLabel('CVC').fill('123');
+		await Promise.all([
+			page.waitForURL(/\/adopt\/thanks\?session_id=cs_/),
+			page.getByRole('button', { name: /^Pay/ }).click()
+		]);
+		// The webhook may arrive a moment after the browser: the page polls until it has.
+		await page
+			.getByRole('status')
+			.filter({ hasText: 'adoption of Coralina is confirmed' })
+			.waitFor({ timeout: 30_000 });
+
+		await page.goto('/account');
+		const adoptions = page.getByRole('region', { name: 'Your adoptions' });
+		await expect(adoptions.getByText('Coralina').first().textContent()).resolves.toBe('Coralina');
+		await context.close();
+	});
+
+	it('a declined card shows the processor’s message and creates no adoption', async () => {
+		const { context, page } = await newPage(browser());
+		await openForm(page, '/patients/coralina/adopt');
+		await page.getByRole('radio', { name: /Ripple/ }).check();
+		await page.getByLabel('Your name').fill('Declined Visitor');
+		await page.getByLabel('Your e-mail').fill('declined.visitor@example.test');
+		await Promise.all([
+			page.waitForURL(/\/fake-stripe\/checkout\//),
+			page.getByRole('button', { name: 'Continue to payment' }).click()
+		]);
+		await page.getByLabel('Card number').fill('4000 0000 0000 0002');
+		await page.getByLabel('Expiry (MM / YY)').fill('12 / 34');
+		await page.getByLabel('CVC').fill('123');
+		await page.getByRole('button', { name: /^Pay/ }).click();
+		await expect(page.getByRole('alert').textContent()).resolves.toContain(
+			'Your card was declined.'
+		);
+		expect(page.url()).toMatch(/\/fake-stripe\/checkout\//);
+		await context.close();
+	});
+});
