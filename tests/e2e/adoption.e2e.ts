@@ -57,4 +57,39 @@ describe('adopting a patient', () => {
 		expect(page.url()).toMatch(/\/fake-stripe\/checkout\//);
 		await context.close();
 	});
+
+	it('a monthly adoption can be cancelled on the processor’s billing page', async () => {
+		const { context, page } = await newPage(browser());
+		await signIn(page, demoUser('supporter').email);
+		await openForm(page, '/patients/coralina/adopt');
+		await page.getByRole('radio', { name: /Swell/ }).check();
+		await Promise.all([
+			page.waitForURL(/\/fake-stripe\/checkout\//),
+			page.getByRole('button', { name: 'Continue to payment' }).click()
+		]);
+		await page.getByLabel('Card number').fill('4242424242424242');
+		await page.getByLabel('Expiry (MM / YY)').fill('12 / 34');
+		await page.getByLabel('CVC').fill('123');
+		await Promise.all([
+			page.waitForURL(/\/adopt\/thanks/),
+			page.getByRole('button', { name: /^Pay/ }).click()
+		]);
+		await page.getByRole('status').filter({ hasText: 'is confirmed' }).waitFor({ timeout: 30_000 });
+
+		await openForm(page, '/account');
+		await Promise.all([
+			page.waitForURL(/\/fake-stripe\/billing\//),
+			page
+				.getByRole('button', { name: 'Change the card or cancel the monthly gift' })
+				.first()
+				.click()
+		]);
+		await page.getByRole('button', { name: 'Cancel this monthly gift' }).first().click();
+		await page.getByRole('button', { name: 'Keep this monthly gift' }).first().waitFor();
+		await Promise.all([
+			page.waitForURL('**/account'),
+			page.getByRole('link', { name: 'Back to the site' }).click()
+		]);
+		await context.close();
+	});
 });

@@ -1,6 +1,8 @@
-import { fail } from '@sveltejs/kit';
+import { fail, redirect } from '@sveltejs/kit';
 import { z } from 'zod';
-import { accountAdoptions } from '$lib/server/adoptions/account';
+import { accountAdoptions, adoptionCustomer } from '$lib/server/adoptions/account';
+import { appOrigin } from '$lib/server/config';
+import { stripe } from '$lib/server/payments/client';
 import { changePassword } from '$lib/server/auth/accounts';
 import { requireRoles } from '$lib/server/auth/roles';
 import { newPassword, parseForm, fieldError } from '$lib/server/forms';
@@ -27,7 +29,42 @@ export const load: PageServerLoad = async (event) => {
 	};
 };
 
+const billingForm = z.object({ adoptionId: z.string().min(1, 'Choose an adoption.') });
+
 export const actions: Actions = {
+	/** Opens the processor's billing page to change the card or cancel a monthly adoption. */
+	billing: async (event) => {
+		const user = requireRoles(event);
+		const parsed = parseForm(billingForm, await event.request.formData());
+		if (!parsed.ok) return fail(400, { errors: parsed.errors });
+		const adoption = (await accountAdoptions(user.id)).find(
+			(a) => a.id === parsed.data.adoptionId && !a.receivedAsGift
+		);
+		if (!adoption || adoption.interval !== 'month' || adoption.status !== 'active') {
+			return fail(400, {
+				errors: fieldError('billing', 'That monthly adoption is not yours to change.')
+			});
+		}
+		const customer = await adoptionCustomer(adoption.id);
+		if (!customer) {
+			return fail(409, {
+				errors: fieldError('billing', 'The payment service has not confirmed this adoption yet.')
+			});
+		}
+		let url: string;
+		try {
+			({ url } = await stripe().billingPortal.sessions.create({
+				customer,
+				return_url: `${appOrigin()}/account`
+			}));
+		} catch (problem) {
+			console.error('Opening the billing page failed:', problem);
+			return fail(503, {
+				errors: fieldError('billing', 'The payment service could not be reached; try again soon.')
+			});
+		}
+		redirect(303, url);
+	},
 	password: async (event) => {
 		const user = requireRoles(event);
 		const parsed = parseForm(passwordForm, await event.request.formData());

@@ -65,3 +65,12 @@ export async function accountAdoptions(userId: string) {
 		payments: payments.filter((p) => p.adoptionId === row.id)
 	}));
 }
+
+/** The processor's customer id of an adoption, once its payment is confirmed. */
+export async function adoptionCustomer(adoptionId: string): Promise<string | null> {
+	const [row] = await db()
+		.select({ customerId: adoptions.customerId })
+		.from(adoptions)
+		.where(eq(adoptions.id, adoptionId));
+	return row?.customerId ?? null;
+}
