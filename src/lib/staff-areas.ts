@@ -8,7 +8,9 @@ export const STAFF_AREAS = {
 	users: { href: '/staff/users', label: 'People and roles', roles: ['admin'] },
 	settings: { href: '/staff/settings', label: 'Settings', roles: ['admin'] },
 	audit: { href: '/staff/audit', label: 'Audit log', roles: ['admin'] },
-	mail: { href: '/staff/mail', label: 'Caught mail', roles: ['admin'] }
+	mail: { href: '/staff/mail', label: 'Caught mail', roles: ['admin'] },
+	/** Controls for the local test payment service; listed only in fake mode (no real key). */
+	sandbox: { href: '/staff/sandbox', label: 'Payment sandbox', roles: ['admin'] }
 } as const satisfies Record<string, { href: string; label: string; roles: readonly Role[] }>;
 
 export type StaffArea = keyof typeof STAFF_AREAS;

@@ -34,6 +34,16 @@ describe('adopting a patient', () => {
 		await page.goto('/account');
 		const adoptions = page.getByRole('region', { name: 'Your adoptions' });
 		await expect(adoptions.getByText('Coralina').first().textContent()).resolves.toBe('Coralina');
+		const [download] = await Promise.all([
+			page.waitForEvent('download'),
+			adoptions
+				.getByRole('link', { name: /Download the certificate/ })
+				.first()
+				.click()
+		]);
+		expect(download.suggestedFilename()).toBe('coralina-adoption-certificate.pdf');
+		const pdf = await (await download.createReadStream()).toArray();
+		expect(Buffer.concat(pdf).subarray(0, 5).toString()).toBe('%PDF-');
 		await context.close();
 	});
 
