@@ -10,6 +10,8 @@ import { startMail, stopMail } from '$lib/server/mail/service';
 import { fakeMode, startFakeStripe, stopFakeStripe } from '$lib/server/payments/fake';
 import { startJourneyScheduler, stopJourneyScheduler } from '$lib/server/journeys/scheduler';
 import { startStoryScheduler, stopStoryScheduler } from '$lib/server/newsroom/scheduler';
+import { deliverDueGiftNotices } from '$lib/server/adoptions/gifts';
+import { startLoop, stopLoop } from '$lib/server/loop';
 
 export const init: ServerInit = async () => {
 	if (building) return;
@@ -43,11 +45,21 @@ export const init: ServerInit = async () => {
 		);
 	}
 	startJourneyScheduler();
+	// Gift notices wait for their delivery date (checked every 5 minutes by default).
+	startLoop(
+		'gift notices',
+		() => deliverDueGiftNotices(),
+		Number(process.env.GIFT_NOTICES_MS ?? 300_000),
+		{
+			runNow: true
+		}
+	);
 	process.once('sveltekit:shutdown', () => {
 		void Promise.allSettled([
 			stopMail(),
 			stopStoryScheduler(),
 			stopJourneyScheduler(),
+			stopLoop('gift notices'),
 			stopFakeStripe()
 		]).finally(() => closeDatabase());
 	});

@@ -44,6 +44,21 @@ describe('adopting a patient', () => {
 		expect(download.suggestedFilename()).toBe('coralina-adoption-certificate.pdf');
 		const pdf = await (await download.createReadStream()).toArray();
 		expect(Buffer.concat(pdf).subarray(0, 5).toString()).toBe('%PDF-');
+
+		// The gift's receipt: Ripple buys nothing, so the whole $25.00 is deductible.
+		const receipts = page.getByRole('table', { name: /Your receipts/ });
+		const row = receipts
+			.getByRole('row')
+			.filter({ hasText: 'Ripple adoption of Coralina' })
+			.first();
+		await expect(row.textContent()).resolves.toMatch(/\$25\.00.*\$25\.00/);
+		const [receipt] = await Promise.all([
+			page.waitForEvent('download'),
+			row.getByRole('link', { name: /Receipt \d+/ }).click()
+		]);
+		expect(receipt.suggestedFilename()).toMatch(/^receipt-\d+\.pdf$/);
+		const receiptPdf = await (await receipt.createReadStream()).toArray();
+		expect(Buffer.concat(receiptPdf).subarray(0, 5).toString()).toBe('%PDF-');
 		await context.close();
 	});
 
@@ -100,6 +115,14 @@ describe('adopting a patient', () => {
 			page.waitForURL('**/account'),
 			page.getByRole('link', { name: 'Back to the site' }).click()
 		]);
+		// The gift runs to the end of the paid month, and the account says when it ends.
+		// (The processor's event may come a moment after the browser: look again until it has.)
+		const endsOn = page.getByRole('region', { name: 'Your adoptions' }).getByText(/ends on \d{4}-/);
+		for (let i = 0; i < 30 && (await endsOn.count()) === 0; i++) {
+			await page.waitForTimeout(500);
+			await page.reload();
+		}
+		expect(await endsOn.count()).toBeGreaterThan(0);
 		await context.close();
 	});
 });

@@ -3,77 +3,31 @@
 // out-of-order events, a failure before commit, and the adoption form's refusals.
 import { isActionFailure } from '@sveltejs/kit';
 import { count, eq } from 'drizzle-orm';
-import { createServer, type Server } from 'node:http';
-import { mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
 import Stripe from 'stripe';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { startCheckout } from '$lib/server/adoptions/checkout';
 import { adoptionLevels, adoptions, gifts, patients, processorEvents } from '$lib/server/db/schema';
 import { stripe } from '$lib/server/payments/client';
-import {
-	advanceClock,
-	payCheckoutSession,
-	startFakeStripe,
-	stopFakeStripe,
-	type FakeStripe
-} from '$lib/server/payments/fake';
+import { advanceClock, payCheckoutSession, type FakeStripe } from '$lib/server/payments/fake';
 import { actions as adoptActions } from '../../src/routes/patients/[slug]/adopt/+page.server';
-import { POST as webhook } from '../../src/routes/api/webhooks/stripe/+server';
 import { useTestDatabase } from '../setup/test-db';
+import { postWebhook, startTestProcessor, type TestProcessor } from './fake-processor';
 
 process.env.MAIL_WORKER = 'off';
 const db = useTestDatabase();
 
-let dataDir: string;
 let fake: FakeStripe;
-let receiver: Server;
 let origin: string;
+let processor: TestProcessor;
 const PATIENT = crypto.randomUUID();
 const ONCE = crypto.randomUUID();
 const MONTHLY = crypto.randomUUID();
 
-/** Hands a delivered request to the webhook handler as SvelteKit would, and answers with its status. */
-function startReceiver(): Promise<string> {
-	receiver = createServer(async (req, res) => {
-		const chunks: Buffer[] = [];
-		for await (const chunk of req) chunks.push(chunk as Buffer);
-		const request = new Request(`http://127.0.0.1${req.url}`, {
-			method: 'POST',
-			headers: req.headers as Record<string, string>,
-			body: Buffer.concat(chunks)
-		});
-		const response = await webhook({ request } as never);
-		res.writeHead(response.status, { 'content-type': 'application/json' });
-		res.end(await response.text());
-	});
-	return new Promise((resolve) =>
-		receiver.listen(0, '127.0.0.1', () => {
-			const address = receiver.address() as { port: number };
-			resolve(`http://127.0.0.1:${address.port}/api/webhooks/stripe`);
-		})
-	);
-}
-
-async function post(body: string, signature: string | null) {
-	const headers: Record<string, string> = { 'content-type': 'application/json' };
-	if (signature) headers['stripe-signature'] = signature;
-	return webhook({
-		request: new Request('http://127.0.0.1/api/webhooks/stripe', {
-			method: 'POST',
-			headers,
-			body
-		})
-	} as never);
-}
+const post = postWebhook;
 
 beforeAll(async () => {
-	dataDir = mkdtempSync(join(tmpdir(), 'tideward-pay-'));
-	const webhookUrl = await startReceiver();
-	origin = 'http://127.0.0.1:5173';
-	process.env.ORIGIN = origin;
-	fake = await startFakeStripe({ dataDir, origin, webhookUrl, deliver: false, retryBaseMs: 10 });
+	processor = await startTestProcessor('pay');
+	({ fake, origin } = processor);
 	await db().insert(patients).values({
 		id: PATIENT,
 		slug: 'pay-test',
@@ -100,11 +54,7 @@ beforeAll(async () => {
 		]);
 });
 
-afterAll(async () => {
-	await stopFakeStripe();
-	receiver?.close();
-	rmSync(dataDir, { recursive: true, force: true });
-});
+afterAll(() => processor?.stop());
 
 async function adopt(levelId: string, email = 'reader@example.test') {
 	const attemptId = crypto.randomUUID();

@@ -3,10 +3,6 @@
 // and what each control does to the app's own tables once the events are applied.
 import { isActionFailure, isHttpError } from '@sveltejs/kit';
 import { count, eq, inArray } from 'drizzle-orm';
-import { createServer, type Server } from 'node:http';
-import { mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { SessionUser } from '$lib/server/auth/lucia';
 import { startCheckout } from '$lib/server/adoptions/checkout';
@@ -24,51 +20,27 @@ import {
 	fakeNow,
 	listEvents,
 	payCheckoutSession,
-	startFakeStripe,
-	stopFakeStripe,
 	type FakeStripe
 } from '$lib/server/payments/fake';
 import type { Role } from '$lib/roles';
 import { actions, load } from '../../src/routes/staff/sandbox/+page.server';
 import type { PageServerData } from '../../src/routes/staff/sandbox/$types';
 import { load as staffLayout } from '../../src/routes/staff/+layout.server';
-import { POST as webhook } from '../../src/routes/api/webhooks/stripe/+server';
 import { useTestDatabase } from '../setup/test-db';
+import { startTestProcessor, type TestProcessor } from './fake-processor';
 
 process.env.MAIL_WORKER = 'off';
 delete process.env.STRIPE_SECRET_KEY;
 const db = useTestDatabase();
 
-let dataDir: string;
 let fake: FakeStripe;
-let receiver: Server;
+let processor: TestProcessor;
 let admin: SessionUser;
 const PATIENT = crypto.randomUUID();
 const PATIENT_NAME = 'Sandbar';
 const ONCE = crypto.randomUUID();
 const MONTHLY = crypto.randomUUID();
 const DAY = 86400;
-
-function startReceiver(): Promise<string> {
-	receiver = createServer(async (req, res) => {
-		const chunks: Buffer[] = [];
-		for await (const chunk of req) chunks.push(chunk as Buffer);
-		const request = new Request(`http://127.0.0.1${req.url}`, {
-			method: 'POST',
-			headers: req.headers as Record<string, string>,
-			body: Buffer.concat(chunks)
-		});
-		const response = await webhook({ request } as never);
-		res.writeHead(response.status, { 'content-type': 'application/json' });
-		res.end(await response.text());
-	});
-	return new Promise((resolve) =>
-		receiver.listen(0, '127.0.0.1', () => {
-			const address = receiver.address() as { port: number };
-			resolve(`http://127.0.0.1:${address.port}/api/webhooks/stripe`);
-		})
-	);
-}
 
 function request(user: SessionUser | null, form?: Record<string, string>) {
 	const url = new URL('http://localhost/staff/sandbox');
@@ -162,11 +134,8 @@ async function auditEntries(action: string) {
 }
 
 beforeAll(async () => {
-	dataDir = mkdtempSync(join(tmpdir(), 'tideward-sandbox-'));
-	const webhookUrl = await startReceiver();
-	const origin = 'http://127.0.0.1:5173';
-	process.env.ORIGIN = origin;
-	fake = await startFakeStripe({ dataDir, origin, webhookUrl, deliver: false, retryBaseMs: 10 });
+	processor = await startTestProcessor('sandbox');
+	fake = processor.fake;
 	admin = await person(['admin']);
 	await db().insert(patients).values({
 		id: PATIENT,
@@ -192,11 +161,7 @@ beforeAll(async () => {
 		]);
 });
 
-afterAll(async () => {
-	await stopFakeStripe();
-	receiver?.close();
-	rmSync(dataDir, { recursive: true, force: true });
-});
+afterAll(() => processor?.stop());
 
 describe('who may use the sandbox', () => {
 	it('refuses staff without the admin role with 403, and a visitor with 401, before acting', async () => {

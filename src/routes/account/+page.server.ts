@@ -1,6 +1,17 @@
 import { fail, redirect } from '@sveltejs/kit';
 import { z } from 'zod';
 import { accountAdoptions, adoptionCustomer } from '$lib/server/adoptions/account';
+import { activeLevels } from '$lib/server/adoptions/checkout';
+import { amount } from '$lib/server/adoptions/form';
+import { ChangeRefused, changeMonthlyGift } from '$lib/server/adoptions/subscriptions';
+import { db } from '$lib/server/db';
+import { accountReceipts } from '$lib/server/ledger/gift-receipts';
+import {
+	CATEGORY_LABELS,
+	getPreferences,
+	savePreferences,
+	UPDATE_CATEGORIES
+} from '$lib/server/mail/preferences';
 import { appOrigin } from '$lib/server/config';
 import { stripe } from '$lib/server/payments/client';
 import { changePassword } from '$lib/server/auth/accounts';
@@ -21,15 +32,44 @@ const passwordForm = z
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRoles(event);
-	const adoptions = await accountAdoptions(user.id);
+	const [adoptions, receipts, preferences, levels] = await Promise.all([
+		accountAdoptions(user.id),
+		accountReceipts(user.id),
+		getPreferences(db(), user.email),
+		activeLevels()
+	]);
 	return {
 		account: { name: user.name, email: user.email, roles: user.roles },
 		// The supporter's own adoptions; the payer's e-mail stays on the server.
-		adoptions: adoptions.map(({ supporterEmail: _payer, ...rest }) => rest)
+		adoptions: adoptions.map(({ supporterEmail: _payer, ...rest }) => rest),
+		receipts,
+		preferences,
+		categories: UPDATE_CATEGORIES.map((c) => ({ name: c, ...CATEGORY_LABELS[c] })),
+		monthlyLevels: levels
+			.filter((l) => l.interval === 'month')
+			.map((l) => ({ id: l.id, name: l.name, amountCents: l.amountCents, goods: l.goods }))
 	};
 };
 
 const billingForm = z.object({ adoptionId: z.string().min(1, 'Choose an adoption.') });
+
+const changeForm = z.object({
+	adoptionId: z.string().min(1, 'Choose an adoption.'),
+	levelId: z.string().min(1, 'Choose a monthly level.'),
+	amount
+});
+
+const checkbox = z
+	.string()
+	.optional()
+	.transform((v) => v === 'on');
+const preferencesForm = z.object({
+	homecoming: checkbox,
+	waypoint: checkbox,
+	fieldNote: checkbox,
+	lastSignal: checkbox,
+	keepFollowing: checkbox
+});
 
 export const actions: Actions = {
 	/** Opens the processor's billing page to change the card or cancel a monthly adoption. */
@@ -64,6 +104,49 @@ export const actions: Actions = {
 			});
 		}
 		redirect(303, url);
+	},
+	/** Changes a monthly adoption's level or amount from the next month on. */
+	change: async (event) => {
+		const user = requireRoles(event);
+		const parsed = parseForm(changeForm, await event.request.formData());
+		if (!parsed.ok) {
+			return fail(400, {
+				errors: parsed.errors,
+				values: parsed.values,
+				changing: parsed.values.adoptionId
+			});
+		}
+		try {
+			await changeMonthlyGift({
+				adoptionId: parsed.data.adoptionId,
+				userId: user.id,
+				levelId: parsed.data.levelId,
+				amountCents: parsed.data.amount
+			});
+		} catch (problem) {
+			if (problem instanceof ChangeRefused) {
+				return fail(400, {
+					errors: fieldError(problem.field, problem.message),
+					values: parsed.values,
+					changing: parsed.data.adoptionId
+				});
+			}
+			console.error('Changing a monthly adoption failed:', problem);
+			return fail(503, {
+				errors: fieldError('change', 'The payment service could not be reached; nothing changed.'),
+				values: parsed.values,
+				changing: parsed.data.adoptionId
+			});
+		}
+		return { changed: 'Your monthly gift is changed from the next payment on.' };
+	},
+	/** Which supporter updates this account's address receives. */
+	preferences: async (event) => {
+		const user = requireRoles(event);
+		const parsed = parseForm(preferencesForm, await event.request.formData());
+		if (!parsed.ok) return fail(400, { errors: parsed.errors });
+		await savePreferences(db(), user.email, parsed.data);
+		return { preferencesSaved: 'Your e-mail choices are saved.' };
 	},
 	password: async (event) => {
 		const user = requireRoles(event);

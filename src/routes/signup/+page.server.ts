@@ -3,17 +3,20 @@ import { z } from 'zod';
 import { createSupporter, EmailTaken, sendSignInLink } from '$lib/server/auth/accounts';
 import { consumeMailAllowance, TooManyAttempts } from '$lib/server/auth/rate-limit';
 import { startSession } from '$lib/server/auth/session';
-import { email, name, newPassword, parseForm, fieldError } from '$lib/server/forms';
+import { email, fieldError, name, newPassword, parseForm, safeRedirect } from '$lib/server/forms';
 import type { Actions, PageServerLoad } from './$types';
 
 const signupForm = z.object({
 	name,
 	email,
-	password: z.union([z.literal(''), newPassword]).optional()
+	password: z.union([z.literal(''), newPassword]).optional(),
+	redirectTo: z.string().optional()
 });
 
-export const load: PageServerLoad = ({ locals }) => {
-	if (locals.user) redirect(303, '/account');
+export const load: PageServerLoad = ({ locals, url }) => {
+	const redirectTo = safeRedirect(url.searchParams.get('redirectTo'), '');
+	if (locals.user) redirect(303, redirectTo || '/account');
+	return { redirectTo };
 };
 
 export const actions: Actions = {
@@ -21,6 +24,7 @@ export const actions: Actions = {
 		const parsed = parseForm(signupForm, await request.formData());
 		if (!parsed.ok) return fail(400, { errors: parsed.errors, values: parsed.values });
 		const { name, email, password } = parsed.data;
+		const next = safeRedirect(parsed.data.redirectTo, '/account');
 		if (!password) {
 			try {
 				await consumeMailAllowance(getClientAddress());
@@ -42,9 +46,9 @@ export const actions: Actions = {
 		}
 		if (password) {
 			await startSession(userId, cookies, url);
-			redirect(303, '/account');
+			redirect(303, next);
 		}
-		await sendSignInLink(email);
+		await sendSignInLink(email, next);
 		return { sent: `Welcome! We e-mailed a sign-in link to ${email}.` };
 	}
 };

@@ -30,6 +30,8 @@ export async function accountAdoptions(userId: string) {
 			currency: adoptions.currency,
 			startedAt: adoptions.startedAt,
 			endedAt: adoptions.endedAt,
+			cancelAt: adoptions.cancelAt,
+			levelId: adoptions.levelId,
 			recipientName: adoptions.recipientName,
 			supporterEmail: adoptions.supporterEmail,
 			patientName: patients.name,

@@ -1,7 +1,7 @@
 // Starting an adoption: a pending row, then a Checkout session at the processor with the
 // adoption's details in metadata. The form's attempt id is both the adoption id and the
 // idempotency key, so a double submit creates one adoption and one session.
-import { and, asc, eq, ne } from 'drizzle-orm';
+import { and, asc, eq, inArray, ne, sql } from 'drizzle-orm';
 import { appOrigin } from '../config';
 import { db } from '../db';
 import { adoptionLevels, adoptions, patients, type AdoptionKind } from '../db/schema';
@@ -47,6 +47,36 @@ export async function adoptablePatient(slug: string) {
 				ne(patients.status, 'died')
 			)
 		);
+	return row ?? null;
+}
+
+/**
+ * "The patient who needs it most": of the patients still in care (admitted or in rehabilitation)
+ * and shown publicly, the one with the fewest active adoptions; among equals, the one in care the
+ * longest. Null when no patient is in care.
+ */
+export async function patientMostInNeed() {
+	const supporters = sql<number>`(
+		SELECT count(*)::int FROM ${adoptions}
+		WHERE ${adoptions.patientId} = ${patients.id} AND ${adoptions.status} = 'active'
+	)`;
+	const [row] = await db()
+		.select({
+			slug: patients.slug,
+			name: patients.name,
+			admittedOn: patients.admittedOn,
+			summary: patients.summary,
+			supporters
+		})
+		.from(patients)
+		.where(
+			and(
+				eq(patients.publicTreatment, 'shown'),
+				inArray(patients.status, ['admitted', 'in_rehabilitation'])
+			)
+		)
+		.orderBy(supporters, asc(patients.admittedOn), asc(patients.name))
+		.limit(1);
 	return row ?? null;
 }
 

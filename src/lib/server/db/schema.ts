@@ -578,6 +578,8 @@ export const adoptionLevels = pgTable('adoption_levels', {
 	goods: text('goods').notNull().default(''),
 	/** Fair market value of the goods, set by staff; 0 when nothing is received. */
 	fairMarketValueCents: integer('fair_market_value_cents').notNull().default(0),
+	/** The goods are low-cost articles bearing the organisation's name or logo (receipt rules). */
+	goodsTokenItem: boolean('goods_token_item').notNull().default(false),
 	active: boolean('active').notNull().default(true),
 	position: integer('position').notNull().default(0),
 	...timestamps
@@ -625,6 +627,14 @@ export const adoptions = pgTable(
 		subscriptionId: text('subscription_id').unique(),
 		startedAt: timestamp('started_at', { withTimezone: true, mode: 'date' }),
 		endedAt: timestamp('ended_at', { withTimezone: true, mode: 'date' }),
+		/** A monthly adoption the supporter cancelled runs to the end of the paid month: this date. */
+		cancelAt: timestamp('cancel_at', { withTimezone: true, mode: 'date' }),
+		/** The processor's `created` time of the last subscription update applied (ordering). */
+		subscriptionSyncedAt: timestamp('subscription_synced_at', { withTimezone: true, mode: 'date' }),
+		/** When the gift notice went to the recipient (on the delivery date, or at once). */
+		giftNotifiedAt: timestamp('gift_notified_at', { withTimezone: true, mode: 'date' }),
+		/** Hash of the link the recipient follows to add the gift to an account. */
+		claimTokenHash: text('claim_token_hash').unique(),
 		...timestamps
 	},
 	(t) => [
@@ -701,4 +711,63 @@ export const payouts = pgTable('payouts', {
 	arrivalDate: timestamp('arrival_date', { withTimezone: true, mode: 'date' }),
 	failureMessage: text('failure_message'),
 	...timestamps
+});
+
+/** Named gapless counters (receipt numbers): incremented inside the transaction that uses them. */
+export const counters = pgTable('counters', {
+	name: text('name').primaryKey(),
+	value: integer('value').notNull()
+});
+
+export const RECEIPT_STATUSES = ['issued', 'void'] as const;
+export type ReceiptStatus = (typeof RECEIPT_STATUSES)[number];
+export const RECEIPT_KINDS = ['original', 'corrected'] as const;
+
+/**
+ * A tax receipt for one gift. Numbers are sequential and never reused; a refund voids the receipt
+ * and, when money is left, issues a corrected one that names the receipt it replaces.
+ */
+export const receipts = pgTable(
+	'receipts',
+	{
+		id: text('id').primaryKey(),
+		number: integer('number').notNull().unique(),
+		giftId: text('gift_id').references(() => gifts.id, { onDelete: 'restrict' }),
+		status: text('status', { enum: RECEIPT_STATUSES }).notNull().default('issued'),
+		kind: text('kind', { enum: RECEIPT_KINDS }).notNull().default('original'),
+		replacesId: text('replaces_id'),
+		country: text('country').notNull().default('US'),
+		donorName: text('donor_name').notNull(),
+		donorEmail: text('donor_email').notNull(),
+		description: text('description').notNull(),
+		goodsDescription: text('goods_description').notNull().default(''),
+		/** The goods were low-cost articles bearing the organisation's name or logo. */
+		goodsTokenItem: boolean('goods_token_item').notNull().default(false),
+		amountCents: integer('amount_cents').notNull(),
+		currency: text('currency').notNull(),
+		fairMarketValueCents: integer('fair_market_value_cents').notNull().default(0),
+		deductibleCents: integer('deductible_cents').notNull(),
+		giftDate: date('gift_date', { mode: 'string' }).notNull(),
+		issuedAt: timestamp('issued_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow(),
+		voidedAt: timestamp('voided_at', { withTimezone: true, mode: 'date' })
+	},
+	(t) => [
+		index('receipts_gift_idx').on(t.giftId),
+		index('receipts_donor_email_idx').on(t.donorEmail)
+	]
+);
+
+/**
+ * What updates an e-mail address wants (keyed by address, so recipients without an account have
+ * them too). Transactional mail (receipts, sign-in) is always sent.
+ */
+export const mailPreferences = pgTable('mail_preferences', {
+	email: text('email').primaryKey(),
+	homecoming: boolean('homecoming').notNull().default(true),
+	waypoint: boolean('waypoint').notNull().default(true),
+	fieldNote: boolean('field_note').notNull().default(true),
+	lastSignal: boolean('last_signal').notNull().default(true),
+	/** Keep receiving a patient's updates after the adoption ends. */
+	keepFollowing: boolean('keep_following').notNull().default(false),
+	updatedAt: timestamp('updated_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow()
 });

@@ -3,6 +3,7 @@
 // recomputeJourney locks the patient row, and a patient already done today is skipped.
 import { isNull, lt, or } from 'drizzle-orm';
 import { db } from '../db';
+import { startLoop, stopLoop } from '../loop';
 import { trackingProfiles } from '../db/schema';
 import { recomputeJourney } from './recompute';
 
@@ -19,33 +20,10 @@ export async function recomputeStaleJourneys(now: number = Date.now()): Promise<
 	return stale.length;
 }
 
-const holder = globalThis as typeof globalThis & {
-	__tidewardJourneyScheduler?: { timer: NodeJS.Timeout; running: Promise<unknown> | null };
-};
-
 export function startJourneyScheduler(
 	intervalMs = Number(process.env.JOURNEY_SCHEDULER_MS ?? 3_600_000)
 ) {
-	if (holder.__tidewardJourneyScheduler || process.env.JOURNEY_SCHEDULER === 'off') return;
-	const state: { timer: NodeJS.Timeout; running: Promise<unknown> | null } = {
-		timer: setInterval(() => tick(), intervalMs),
-		running: null
-	};
-	const tick = () => {
-		if (state.running) return;
-		state.running = recomputeStaleJourneys()
-			.catch((error) => console.error('Recomputing journeys failed:', error))
-			.finally(() => (state.running = null));
-	};
-	state.timer.unref();
-	holder.__tidewardJourneyScheduler = state;
-	tick();
+	startLoop('journey scheduler', () => recomputeStaleJourneys(), intervalMs, { runNow: true });
 }
 
-export async function stopJourneyScheduler(): Promise<void> {
-	const state = holder.__tidewardJourneyScheduler;
-	if (!state) return;
-	holder.__tidewardJourneyScheduler = undefined;
-	clearInterval(state.timer);
-	await state.running;
-}
+export const stopJourneyScheduler = () => stopLoop('journey scheduler');

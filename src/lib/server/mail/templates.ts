@@ -14,7 +14,28 @@ export const TEMPLATE_VARIABLES = {
 	'sign-in-link': ['name', 'link', 'minutes'],
 	'password-reset': ['name', 'link', 'minutes'],
 	'staff-invite': ['name', 'inviterName', 'link', 'days'],
-	'test-message': ['name', 'sentAt']
+	'test-message': ['name', 'sentAt'],
+	'gift-receipt': [
+		'name',
+		'email',
+		'patientName',
+		'levelName',
+		'amount',
+		'giftDate',
+		'intro',
+		'receiptNumber',
+		'receiptText',
+		'accountLink'
+	],
+	'monthly-gift-failed': ['name', 'patientName', 'amount', 'reason', 'link'],
+	'gift-notice': [
+		'recipientName',
+		'giverName',
+		'patientName',
+		'giftMessage',
+		'claimLink',
+		'patientLink'
+	]
 } as const;
 
 export type TemplateName = keyof typeof TEMPLATE_VARIABLES;
@@ -58,7 +79,7 @@ async function compile(name: TemplateName): Promise<Compiled> {
 		readFile(join(dir, 'partials', 'footer.txt'), 'utf8'),
 		import('mjml')
 	]);
-	const subject = /<mj-title>([\s\S]*?)<\/mj-title>/.exec(source)?.[1];
+	const subject = /<mj-title\s*>([\s\S]*?)<\/mj-title\s*>/.exec(source)?.[1];
 	if (!subject) throw new Error(`E-mail template ${name} has no <mj-title> (its subject).`);
 	const result = await mjml2html(source, {
 		filePath: file,

@@ -3,11 +3,15 @@
 // is applied once however often it is delivered, and a crash before the commit leaves nothing
 // behind for the redelivery to trip over. Inserts are keyed on processor ids, so events arriving
 // out of order (an invoice before its checkout session) reach the same final state.
-import { and, eq, inArray, sql } from 'drizzle-orm';
+import { and, eq, gt, inArray, ne, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import type Stripe from 'stripe';
 import { db, type Executor } from '../db';
 import { adoptions, gifts, payouts, processorEvents } from '../db/schema';
+import { notifyGiftIfDue } from '../adoptions/gifts';
+import { queueGiftThanks, queueMonthlyGiftFailed } from '../adoptions/mail';
+import { applySubscriptionState } from '../adoptions/subscriptions';
+import { issueGiftReceipt, reviseGiftReceipt } from '../ledger/gift-receipts';
 import { stripe } from './client';
 
 export type EventOutcome = 'applied' | 'duplicate' | 'ignored';
@@ -87,6 +91,31 @@ async function adoptionOfSubscription(subscriptionId: string): Promise<string | 
 	return subscription.metadata?.adoption_id ?? null;
 }
 
+/**
+ * The fair market value of the goods a new gift of this adoption buys, or null for an unknown
+ * adoption. The goods (a keepsake kit) are sent once: a monthly adoption's later gifts buy none.
+ */
+async function adoptionValue(tx: Executor, adoptionId: string): Promise<number | null> {
+	const [adoption] = await tx
+		.select({ fmv: adoptions.fairMarketValueCents })
+		.from(adoptions)
+		.where(eq(adoptions.id, adoptionId));
+	if (!adoption) return null;
+	if (adoption.fmv === 0) return 0;
+	const [earlier] = await tx
+		.select({ id: gifts.id })
+		.from(gifts)
+		.where(
+			and(
+				eq(gifts.adoptionId, adoptionId),
+				ne(gifts.status, 'failed'),
+				gt(gifts.fairMarketValueCents, 0)
+			)
+		)
+		.limit(1);
+	return earlier ? 0 : adoption.fmv;
+}
+
 async function recordGift(
 	tx: Executor,
 	adoptionId: string,
@@ -97,12 +126,9 @@ async function recordGift(
 		subscriptionId?: string | null;
 	}
 ) {
-	const [adoption] = await tx
-		.select({ fmv: adoptions.fairMarketValueCents })
-		.from(adoptions)
-		.where(eq(adoptions.id, adoptionId));
-	if (!adoption) return;
-	await tx
+	const fmv = await adoptionValue(tx, adoptionId);
+	if (fmv === null) return;
+	const inserted = await tx
 		.insert(gifts)
 		.values({
 			id: randomUUID(),
@@ -119,7 +145,7 @@ async function recordGift(
 			currency: details.currency,
 			feeCents: details.feeCents,
 			netCents: details.netCents,
-			fairMarketValueCents: adoption.fmv,
+			fairMarketValueCents: fmv,
 			checkoutSessionId: extra.checkoutSessionId ?? null,
 			paymentIntentId: details.paymentIntentId,
 			chargeId: details.chargeId,
@@ -129,11 +155,17 @@ async function recordGift(
 			balanceTransactionId: details.balanceTransactionId,
 			paidAt: details.paidAt
 		})
-		.onConflictDoNothing();
+		.onConflictDoNothing()
+		.returning({ id: gifts.id });
 	await activate(tx, adoptionId, details.paidAt, {
 		customerId: details.customerId,
 		subscriptionId: extra.subscriptionId ?? null
 	});
+	// A new gift gets its receipt and the thank-you in the same transaction.
+	if (inserted.length) {
+		const receipt = await issueGiftReceipt(tx, inserted[0].id);
+		if (receipt) await queueGiftThanks(tx, inserted[0].id, receipt);
+	}
 }
 
 async function activate(
@@ -157,6 +189,8 @@ async function activate(
 			updatedAt: new Date()
 		})
 		.where(eq(adoptions.id, adoptionId));
+	// A gift with no delivery date (or one already past) is announced to its recipient now.
+	await notifyGiftIfDue(tx, adoptionId);
 }
 
 type Effect = (tx: Executor) => Promise<void>;
@@ -215,12 +249,8 @@ async function prepare(event: Stripe.Event): Promise<Effect | null> {
 				(invoice as unknown as { last_finalization_error?: { message?: string } })
 					.last_finalization_error?.message ?? 'The monthly payment failed.';
 			return async (tx) => {
-				const [adoption] = await tx
-					.select({ fmv: adoptions.fairMarketValueCents })
-					.from(adoptions)
-					.where(eq(adoptions.id, adoptionId));
-				if (!adoption) return;
-				await tx
+				if ((await adoptionValue(tx, adoptionId)) === null) return;
+				const inserted = await tx
 					.insert(gifts)
 					.values({
 						id: randomUUID(),
@@ -234,8 +264,18 @@ async function prepare(event: Stripe.Event): Promise<Effect | null> {
 						customerId: id(invoice.customer),
 						failureMessage: message
 					})
-					.onConflictDoNothing();
+					.onConflictDoNothing()
+					.returning({ id: gifts.id });
+				if (inserted.length) await queueMonthlyGiftFailed(tx, inserted[0].id);
 			};
+		}
+		case 'customer.subscription.updated': {
+			const subscription = event.data.object;
+			const adoptionId =
+				subscription.metadata?.adoption_id ?? (await adoptionOfSubscription(subscription.id));
+			if (!adoptionId) return null;
+			return (tx) =>
+				applySubscriptionState(tx, adoptionId, subscription, new Date(event.created * 1000));
 		}
 		case 'customer.subscription.deleted': {
 			const subscription = event.data.object;
@@ -267,6 +307,11 @@ async function prepare(event: Stripe.Event): Promise<Effect | null> {
 						updatedAt: new Date()
 					})
 					.where(eq(gifts.chargeId, charge.id));
+				const [gift] = await tx
+					.select({ id: gifts.id })
+					.from(gifts)
+					.where(eq(gifts.chargeId, charge.id));
+				if (gift) await reviseGiftReceipt(tx, gift.id);
 			};
 		}
 		case 'charge.dispute.created':
