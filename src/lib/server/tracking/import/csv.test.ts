@@ -16,6 +16,8 @@ const MAPPING: CsvMapping = {
 	errorRadiusM: 'error_radius'
 };
 
+const MAPPING_4: CsvMapping = { time: 'timestamp', lat: 'lat', lon: 'lon', lc: 'lc' };
+
 function parse(text: string, mapping: CsvMapping = MAPPING, extra: object = {}) {
 	return collect(parsePositions(streamOf(text), { format: 'csv', mapping, now: NOW, ...extra }));
 }
@@ -231,6 +233,44 @@ describe('parsePositions, CSV', () => {
 				message: expect.stringMatching(/^“2024-03-01 12:00:00,x” is not a time we can read/)
 			}
 		]);
+	});
+
+	it('numbers the rows of a long file right across chunks, blank lines and quoted line breaks', async () => {
+		let text = 'timestamp,lat,lon,lc,note\n';
+		let line = 1;
+		const good: number[] = [];
+		const bad: number[] = [];
+		for (let i = 0; i < 10_000; i++) {
+			const time = new Date(Date.UTC(2024, 0, 1) + i * 60_000).toISOString();
+			const lat = i % 777 === 0 ? '91' : String((i % 1800) / 20 - 45);
+			const note = i % 2500 === 1 ? '"two\r\nlines"' : i % 3 === 0 ? 'x' : '';
+			line++;
+			text += `${time},${lat},${(i % 3600) / 10 - 180},${'G3210ABZ'[i % 8]},${note}\n`;
+			(lat === '91' ? bad : good).push(line);
+			if (note.includes('\n')) line++;
+			if (i % 1000 === 999) {
+				text += '\n , ,\n';
+				line += 2;
+			}
+		}
+		const items = await collect(
+			parsePositions(streamOf(text, 997), { format: 'csv', mapping: MAPPING_4, now: NOW })
+		);
+		expect(positions(items).map((p) => p.row)).toEqual(good);
+		expect(problems(items)).toEqual(
+			bad.map((row) => ({ row, column: 'lat', message: 'Latitude 91 is outside -90 to 90.' }))
+		);
+		expect(positions(items)[4321]).toEqual({
+			row: good[4321],
+			time: Date.UTC(2024, 0, 1) + 4327 * 60_000,
+			lat: (4327 % 1800) / 20 - 45,
+			lon: (4327 % 3600) / 10 - 180,
+			lc: 'G3210ABZ'[4327 % 8],
+			semiMajorM: null,
+			semiMinorM: null,
+			orientationDeg: null,
+			errorRadiusM: null
+		});
 	});
 
 	it('stops reading the source when the caller stops early', async () => {

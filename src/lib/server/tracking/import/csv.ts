@@ -1,22 +1,10 @@
-import { pipeline, type Readable } from 'node:stream';
+import { finished, pipeline, type Readable } from 'node:stream';
 import { CsvError, parse } from 'csv-parse';
 import type { LocationClass } from '../types';
 import { suggestMapping, validateMapping } from './mapping';
-import {
-	ImportFileError,
-	type CsvDelimiter,
-	type CsvMapping,
-	type MappingField,
-	type ParseItem
-} from './types';
-import {
-	checkRow,
-	parseDecimal,
-	parseTimestamp,
-	quote,
-	type FieldValue,
-	type RowInput
-} from './values';
+import { csvRowReader } from './csv-records';
+import { ImportFileError, type CsvDelimiter, type CsvMapping, type ParseItem } from './types';
+import { parseDecimal, parseTimestamp, quote } from './values';
 
 const DELIMITERS: readonly CsvDelimiter[] = [',', ';', '\t'];
 const DELIMITER_NAMES: Readonly<Record<CsvDelimiter, string>> = {
@@ -26,6 +14,8 @@ const DELIMITER_NAMES: Readonly<Record<CsvDelimiter, string>> = {
 };
 /** Same as csv-parse's own record size guard. */
 const MAX_LINE_BYTES = 128_000;
+/** Records handed on per await; bounds the batch when the parser holds many chunks' worth. */
+const BATCH_RECORDS = 4096;
 
 /**
  * Counts each candidate outside double quotes in the header line; the most frequent wins, ties
@@ -66,7 +56,8 @@ interface CsvRecord {
 interface OpenCsv {
 	delimiter: CsvDelimiter;
 	headers: string[];
-	records: AsyncGenerator<CsvRecord, void, undefined>;
+	/** data records, in batches */
+	batches: AsyncGenerator<CsvRecord[], void, undefined>;
 }
 
 /** Reads up to the end of the first non-blank line, keeping the bytes to replay to the parser. */
@@ -161,33 +152,72 @@ async function openCsv(source: Readable, delimiterOverride?: CsvDelimiter): Prom
 	// Errors reach the consumer through the parser; the callback is only here to satisfy pipeline.
 	pipeline(replay, parser, () => {});
 
-	async function* records(): AsyncGenerator<CsvRecord, void, undefined> {
+	/**
+	 * Records in batches of what the parser holds: one await per batch rather than one per
+	 * record, which was a good part of the reading time (the readable side's own async iterator
+	 * yields record by record). Errors and an early end are what that iterator reports. The
+	 * first batch is the header record alone.
+	 */
+	async function* records(): AsyncGenerator<CsvRecord[], void, undefined> {
+		let wake: (() => void) | null = null;
+		const resume = () => {
+			const waiting = wake;
+			wake = null;
+			waiting?.();
+		};
+		/** undefined: still reading; null: ended; otherwise what stopped it */
+		let ended: unknown = undefined;
+		parser.on('readable', resume);
+		const stopWatching = finished(parser, { writable: false }, (error) => {
+			ended = error ?? null;
+			resume();
+		});
 		let lastLine = 0;
+		let limit = 1;
 		try {
-			for await (const fields of parser as AsyncIterable<string[]>) {
-				const line = lastLine + 1;
-				lastLine = line;
-				for (const field of fields) {
-					// a quoted field can span lines
-					if (field.includes('\n') || field.includes('\r')) {
-						lastLine += field.match(/\r\n|\r|\n/g)?.length ?? 0;
+			for (;;) {
+				const batch: CsvRecord[] = [];
+				let fields: string[] | null;
+				while (
+					batch.length < limit &&
+					!parser.destroyed &&
+					(fields = parser.read() as string[] | null) !== null
+				) {
+					const line = lastLine + 1;
+					lastLine = line;
+					let blank = true;
+					for (const field of fields) {
+						// a quoted field can span lines
+						if (field.includes('\n') || field.includes('\r')) {
+							lastLine += field.match(/\r\n|\r|\n/g)?.length ?? 0;
+						}
+						if (blank && field !== '' && field.trim() !== '') blank = false;
 					}
+					if (!blank) batch.push({ fields, line });
 				}
-				if (fields.every((field) => field.trim() === '')) continue;
-				yield { fields, line };
+				if (batch.length > 0) {
+					yield batch;
+					limit = BATCH_RECORDS;
+				} else if (ended === null) return;
+				else if (ended !== undefined) throw ended;
+				else await new Promise<void>((resolve) => (wake = resolve));
 			}
 		} catch (error) {
 			if (error instanceof CsvError) {
 				throw new ImportFileError(`This is not a readable CSV file: ${error.message}`);
 			}
 			throw error;
+		} finally {
+			parser.off('readable', resume);
+			stopWatching();
+			if (ended === undefined) parser.destroy();
 		}
 	}
 
 	const all = records();
 	const first = await all.next();
 	if (first.done) throw new ImportFileError('The file is empty.');
-	const headers = first.value.fields.map((name) => name.trim());
+	const headers = first.value[0].fields.map((name) => name.trim());
 	while (headers.length > 1 && headers[headers.length - 1] === '') headers.pop();
 	const problem = headerProblem(headers);
 	if (problem !== null) {
@@ -200,7 +230,7 @@ async function openCsv(source: Readable, delimiterOverride?: CsvDelimiter): Prom
 			`The header row has one column only, read with the ${DELIMITER_NAMES[delimiter]} as separator; a position file needs at least time, latitude and longitude columns.`
 		);
 	}
-	return { delimiter, headers, records: all };
+	return { delimiter, headers, batches: all };
 }
 
 export interface CsvPreview {
@@ -213,21 +243,19 @@ export interface CsvPreview {
 
 /** Reads only the header and the first `rows` data rows, then stops reading `source`. */
 export async function previewCsv(source: Readable, rows = 10): Promise<CsvPreview> {
-	const { delimiter, headers, records } = await openCsv(source);
+	const { delimiter, headers, batches } = await openCsv(source);
 	const preview: string[][] = [];
 	try {
 		while (preview.length < rows) {
-			const next = await records.next();
+			const next = await batches.next();
 			if (next.done) break;
-			preview.push(next.value.fields);
+			for (const { fields } of next.value.slice(0, rows - preview.length)) preview.push(fields);
 		}
 	} finally {
-		await records.return();
+		await batches.return();
 	}
 	return { delimiter, headers, rows: preview, suggested: suggestMapping(headers) };
 }
-
-const OPTIONAL_FIELDS = ['semiMajorM', 'semiMinorM', 'orientationDeg', 'errorRadiusM'] as const;
 
 export async function* parseCsv(
 	source: Readable,
@@ -238,52 +266,19 @@ export async function* parseCsv(
 		now: number;
 	}
 ): AsyncGenerator<ParseItem, void, undefined> {
-	const { headers, records } = await openCsv(source, options.delimiter);
+	const { headers, batches } = await openCsv(source, options.delimiter);
 	const checked = validateMapping(headers, options.mapping, options.defaultClass);
 	if (!checked.ok) {
-		await records.return();
+		await batches.return();
 		throw new ImportFileError(
 			`The columns chosen do not fit this file: ${Object.values(checked.errors).join(' ')}`
 		);
 	}
-	const { mapping } = checked;
-	const index = (field: MappingField): number => {
-		const column = mapping[field];
-		return column === undefined ? -1 : headers.indexOf(column);
-	};
-	const at = { time: index('time'), lat: index('lat'), lon: index('lon'), lc: index('lc') };
-	const optional = OPTIONAL_FIELDS.map((field) => [field, index(field)] as const);
-	const rules = { now: options.now, defaultClass: checked.defaultClass ?? options.defaultClass };
-	const width = headers.length;
-
-	const field = (fields: string[], i: number): FieldValue | null =>
-		i < 0 ? null : { column: headers[i], value: fields[i] ?? '' };
-
-	for await (const { fields, line } of records) {
-		const extra = fields.slice(width).findIndex((cell) => cell !== '');
-		const problems =
-			extra >= 0
-				? [
-						{
-							row: line,
-							column: '',
-							message: `This row has ${fields.length} fields but the header names ${width} columns; check the separators and quotes.`
-						}
-					]
-				: [];
-		const input: RowInput = {
-			row: line,
-			time: field(fields, at.time),
-			lat: field(fields, at.lat),
-			lon: field(fields, at.lon),
-			lc: field(fields, at.lc),
-			semiMajorM: null,
-			semiMinorM: null,
-			orientationDeg: null,
-			errorRadiusM: null,
-			problems
-		};
-		for (const [name, i] of optional) input[name] = field(fields, i);
-		yield checkRow(input, rules);
+	const readRow = csvRowReader(headers, checked.mapping, {
+		now: options.now,
+		defaultClass: checked.defaultClass ?? options.defaultClass
+	});
+	for await (const batch of batches) {
+		for (const { fields, line } of batch) yield readRow(fields, line);
 	}
 }

@@ -1,12 +1,15 @@
 import { describe, expect, it } from 'vitest';
+import { mulberry32 } from '../synthetic';
 import { NOW } from './test-support';
 import {
 	checkRow,
+	decimalOrNaN,
 	EARLIEST_TIME,
 	FUTURE_TOLERANCE_MS,
 	parseDecimal,
 	parseLocationClass,
 	parseTimestamp,
+	utcTimestampFast,
 	type FieldValue,
 	type RowInput
 } from './values';
@@ -324,5 +327,154 @@ describe('checkRow', () => {
 				{ column: 'lat', message: '“true” is not a number.' }
 			]
 		});
+	});
+});
+
+const pad = (n: number, width = 2) => String(n).padStart(width, '0');
+
+/**
+ * Outside reference for a date and time written by parts: ECMAScript's own reading of its Date
+ * Time String Format (ECMA-262 §21.4.1.32, `Date.parse` of `YYYY-MM-DDTHH:mm:ss.sssZ`). V8
+ * accepts some impossible dates there (`2023-02-29` as 1 March, day 31 of any month, `24:00`),
+ * so a date counts as real only when `toISOString` gives the same text back.
+ */
+function reference(
+	year: number,
+	month: number,
+	day: number,
+	hour: number,
+	minute: number,
+	second: number,
+	ms = 0
+): number {
+	const iso = `${pad(year, 4)}-${pad(month)}-${pad(day)}T${pad(hour)}:${pad(minute)}:${pad(second)}.${pad(ms, 3)}Z`;
+	const value = Date.parse(iso);
+	return Number.isFinite(value) && new Date(value).toISOString() === iso ? value : NaN;
+}
+
+describe('utcTimestampFast', () => {
+	it('agrees with Date.parse on 20 000 random times from 1990 to 2100, impossible ones included', () => {
+		const random = mulberry32(20261202);
+		const int = (min: number, max: number) => min + Math.floor(random() * (max - min + 1));
+		const disagreements: string[] = [];
+		let real = 0;
+		let impossible = 0;
+		for (let i = 0; i < 20_000; i++) {
+			// a fifth of the parts go past their range, to reach every refusal
+			const wide = random() < 0.2;
+			const year = int(1990, 2100);
+			const month = wide ? int(0, 13) : int(1, 12);
+			const day = wide ? int(0, 32) : int(1, 31);
+			const hour = wide ? int(0, 25) : int(0, 23);
+			const minute = wide ? int(0, 61) : int(0, 59);
+			const second = wide ? int(0, 61) : int(0, 59);
+			const ms = int(0, 999);
+			const expected = reference(year, month, day, hour, minute, second);
+			const withMs = reference(year, month, day, hour, minute, second, ms);
+			const date = `${year}-${pad(month)}-${pad(day)}`;
+			const time = `${pad(hour)}:${pad(minute)}:${pad(second)}`;
+			const cases: [string, number][] = [
+				[`${date}T${time}Z`, expected],
+				[`${date} ${time}`, expected],
+				[`${date}t${time}z`, expected],
+				[`${date}T${time}.${pad(ms, 3)}Z`, withMs],
+				[`${date} ${time}.${pad(ms, 3)}`, withMs]
+			];
+			for (const [text, value] of cases) {
+				if (!Object.is(utcTimestampFast(text), value)) disagreements.push(text);
+			}
+			// parseTimestamp's general path (the slash form never takes the fast one) says the same
+			const slashes = `${year}/${pad(month)}/${pad(day)} ${time}`;
+			const general = parseTimestamp(slashes);
+			if (general.ok ? general.value !== expected : !Number.isNaN(expected)) {
+				disagreements.push(slashes);
+			}
+			if (Number.isNaN(expected)) impossible++;
+			else real++;
+		}
+		expect(disagreements).toEqual([]);
+		// both sides were exercised
+		expect(real).toBeGreaterThan(15_000);
+		expect(impossible).toBeGreaterThan(1_000);
+	});
+
+	it('knows the Gregorian leap years and the length of each month', () => {
+		// leap years: divisible by 4, except centuries not divisible by 400 (2000 is, 2100 is not)
+		expect(utcTimestampFast('2024-02-29T12:00:00Z')).toBe(Date.parse('2024-02-29T12:00:00Z'));
+		expect(utcTimestampFast('2000-02-29 00:00:00')).toBe(Date.parse('2000-02-29T00:00:00Z'));
+		expect(utcTimestampFast('2024-02-29T12:00:00Z')).toBe(1_709_208_000_000);
+		for (const text of [
+			'2100-02-29T00:00:00Z',
+			'2023-02-29 00:00:00',
+			'2024-02-30T00:00:00Z',
+			'2024-04-31T00:00:00Z',
+			'2024-06-31 00:00:00',
+			'2024-09-31 00:00:00',
+			'2024-11-31 00:00:00',
+			'2024-00-10T00:00:00Z',
+			'2024-13-01T00:00:00Z',
+			'2024-01-00T00:00:00Z',
+			'2024-01-32T00:00:00Z',
+			'2024-01-01T24:00:00Z',
+			'2024-01-01T23:60:00Z',
+			'2024-01-01T23:59:60Z'
+		]) {
+			expect(utcTimestampFast(text), text).toBeNaN();
+			expect(parseTimestamp(text), text).toEqual({
+				ok: false,
+				message: `“${text}” is not a real date and time.`
+			});
+		}
+		expect(utcTimestampFast('2024-01-31 00:00:00')).toBe(Date.parse('2024-01-31T00:00:00Z'));
+		expect(utcTimestampFast('2024-06-30 23:59:59')).toBe(Date.parse('2024-06-30T23:59:59Z'));
+		expect(utcTimestampFast('2099-12-31T23:59:59Z')).toBe(Date.parse('2099-12-31T23:59:59Z'));
+	});
+
+	it('leaves every other form to the general reader', () => {
+		for (const text of [
+			'2024-03-01T12:00:00', // ISO without a zone: refused there, with its message
+			'2024/03/01 12:00:00',
+			'2024-03-01T12:00:00+02:00',
+			'2024-03-01 12:00:00 UTC',
+			'2024-03-01 12:00',
+			'2024-03-01T12:00:00.5Z',
+			'2024-03-01T12:00:00,500Z',
+			' 2024-03-01 12:00:00',
+			'2024-03-01 12:00:00 ',
+			'0050-03-01 12:00:00', // Date.UTC would read year 50 as 1950
+			'2024-3-01 12:00:00Z',
+			'2024-03-01x12:00:00Z',
+			'2024-03-01 12-00-00',
+			'2O24-03-01 12:00:00',
+			'2024-03-01 12:00:0a',
+			''
+		]) {
+			expect(utcTimestampFast(text), text).toBeNaN();
+		}
+		expect(parseTimestamp('0050-03-01 12:00:00')).toEqual({
+			ok: true,
+			value: Date.parse('0050-03-01T12:00:00Z')
+		});
+	});
+});
+
+describe('decimalOrNaN', () => {
+	it('gives what parseDecimal gives for plain decimals, and NaN where it explains a refusal', () => {
+		for (const text of ['-12.5', '+.5', '1e3', '7.', '0', '-0', '179.99999999999997', '1E-7']) {
+			expect(Object.is(decimalOrNaN(text), parseDecimal(text).ok && Number(text)), text).toBe(true);
+		}
+		for (const text of [
+			' -12.5 ',
+			'12,5',
+			'1,234.5',
+			'NaN',
+			'Infinity',
+			'0x10',
+			'',
+			'-',
+			'1e999'
+		]) {
+			expect(decimalOrNaN(text), text).toBeNaN();
+		}
 	});
 });

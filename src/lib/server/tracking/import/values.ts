@@ -29,7 +29,77 @@ const TIMESTAMP =
 
 function daysInMonth(year: number, month: number): number {
 	if (month === 2) return (year % 4 === 0 && year % 100 !== 0) || year % 400 === 0 ? 29 : 28;
-	return [4, 6, 9, 11].includes(month) ? 30 : 31;
+	return month === 4 || month === 6 || month === 9 || month === 11 ? 30 : 31;
+}
+
+const CHAR_0 = 48;
+
+/** Two decimal digits at `at`, or -1. `text` must be long enough. */
+function twoDigits(text: string, at: number): number {
+	const tens = text.charCodeAt(at) - CHAR_0;
+	const units = text.charCodeAt(at + 1) - CHAR_0;
+	return tens >= 0 && tens <= 9 && units >= 0 && units <= 9 ? tens * 10 + units : -1;
+}
+
+/**
+ * The common exported forms read without the regular expression: `YYYY-MM-DDTHH:MM:SSZ`,
+ * `YYYY-MM-DD HH:MM:SS` (zone-less, so a space only), optionally with `Z` after a space and with
+ * three fraction digits (`.sssZ`, as `toISOString` writes). ms since epoch, or NaN for anything
+ * else, including dates that do not exist; `parseTimestamp` then decides, with its messages.
+ * Years before 100 are left to it too: `Date.UTC` would read them as 19xx.
+ */
+export function utcTimestampFast(text: string): number {
+	const length = text.length;
+	if (length < 19 || length > 24) return NaN;
+	let zone = false;
+	let end = length;
+	const last = text.charCodeAt(length - 1);
+	if (last === 90 /* Z */ || last === 122 /* z */) {
+		zone = true;
+		end--;
+	}
+	let ms = 0;
+	if (end === 23) {
+		if (text.charCodeAt(19) !== 46 /* . */) return NaN;
+		const hundreds = text.charCodeAt(20) - CHAR_0;
+		const rest = twoDigits(text, 21);
+		if (hundreds < 0 || hundreds > 9 || rest < 0) return NaN;
+		ms = hundreds * 100 + rest;
+	} else if (end !== 19) return NaN;
+	const sep = text.charCodeAt(10);
+	if (sep !== 32 /* space */ && !(zone && (sep === 84 /* T */ || sep === 116) /* t */)) return NaN;
+	if (
+		text.charCodeAt(4) !== 45 /* - */ ||
+		text.charCodeAt(7) !== 45 ||
+		text.charCodeAt(13) !== 58 /* : */ ||
+		text.charCodeAt(16) !== 58
+	) {
+		return NaN;
+	}
+	const century = twoDigits(text, 0);
+	const yearOf = twoDigits(text, 2);
+	const month = twoDigits(text, 5);
+	const day = twoDigits(text, 8);
+	const hour = twoDigits(text, 11);
+	const minute = twoDigits(text, 14);
+	const second = twoDigits(text, 17);
+	if (century < 1 || yearOf < 0) return NaN;
+	const year = century * 100 + yearOf;
+	if (
+		month < 1 ||
+		month > 12 ||
+		day < 1 ||
+		day > daysInMonth(year, month) ||
+		hour < 0 ||
+		hour > 23 ||
+		minute < 0 ||
+		minute > 59 ||
+		second < 0 ||
+		second > 59
+	) {
+		return NaN;
+	}
+	return Date.UTC(year, month - 1, day, hour, minute, second, ms);
 }
 
 const READABLE_FORMS =
@@ -43,6 +113,8 @@ const READABLE_FORMS =
  */
 export function parseTimestamp(raw: string): Result<number> {
 	const text = raw.trim();
+	const fast = utcTimestampFast(text);
+	if (fast === fast) return { ok: true, value: fast };
 	const m = TIMESTAMP.exec(text);
 	if (!m) {
 		if (/^\d{9,13}(\.\d+)?$/.test(text)) {
@@ -98,6 +170,16 @@ export function parseTimestamp(raw: string): Result<number> {
 }
 
 const DECIMAL = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$/;
+
+/**
+ * `text` (untrimmed) as `parseDecimal` would read it when it is a plain finite decimal, or NaN
+ * for anything else (spaces, commas, too large…), which `parseDecimal` then explains.
+ */
+export function decimalOrNaN(text: string): number {
+	if (!DECIMAL.test(text)) return NaN;
+	const value = Number(text);
+	return value - value === 0 ? value : NaN;
+}
 
 /** A plain decimal number with a decimal point. `NaN`, `Infinity`, hex and `12,5` are refused. */
 export function parseDecimal(raw: string): Result<number> {
