@@ -12,6 +12,8 @@ import { startJourneyScheduler, stopJourneyScheduler } from '$lib/server/journey
 import { startStoryScheduler, stopStoryScheduler } from '$lib/server/newsroom/scheduler';
 import { deliverDueGiftNotices } from '$lib/server/adoptions/gifts';
 import { startLoop, stopLoop } from '$lib/server/loop';
+import { fanOutPending } from '$lib/server/updates/fanout';
+import { sameOriginForms } from '$lib/server/csrf';
 
 export const init: ServerInit = async () => {
 	if (building) return;
@@ -38,8 +40,15 @@ export const init: ServerInit = async () => {
 	await ensureFirstAdmin();
 	if (process.env.TIDEWARD_DEMO === '1') {
 		const { ensureDemoData, printDemoBanner } = await import('$lib/server/demo');
+		const state = await ensureDemoData();
+		if (fakeMode()) {
+			// A few adoptions paid through the test payment service (its events arrive once the
+			// server listens).
+			const { ensureDemoAdoptions } = await import('$lib/server/demo-adoptions');
+			await ensureDemoAdoptions();
+		}
 		printDemoBanner(
-			await ensureDemoData(),
+			state,
 			process.env.DATA_DIR ?? './data/tideward',
 			mail.catcherPort
 		);
@@ -54,12 +63,20 @@ export const init: ServerInit = async () => {
 			runNow: true
 		}
 	);
+	// Supporter updates: patient events fanned out to their adopters through the outbox.
+	startLoop(
+		'supporter updates',
+		() => fanOutPending(),
+		Number(process.env.SUPPORTER_UPDATES_MS ?? 30_000),
+		{ runNow: true }
+	);
 	process.once('sveltekit:shutdown', () => {
 		void Promise.allSettled([
 			stopMail(),
 			stopStoryScheduler(),
 			stopJourneyScheduler(),
 			stopLoop('gift notices'),
+			stopLoop('supporter updates'),
 			stopFakeStripe()
 		]).finally(() => closeDatabase());
 	});
@@ -85,7 +102,7 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 	return response;
 };
 
-export const handle = sequence(requestId, session, securityHeaders);
+export const handle = sequence(sameOriginForms, requestId, session, securityHeaders);
 
 export const handleError: HandleServerError = ({ error, event, status }) => {
 	if (status >= 500) console.error(`[${event.locals.requestId}]`, error);

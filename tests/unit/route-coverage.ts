@@ -16,7 +16,9 @@ export const PUBLIC_API: Record<string, string> = {
 	'api/stories': 'public data for visitors',
 	'api/webhooks/stripe': 'the payment processor; every request must carry a valid signature',
 	'api/adoptions/session/[id]':
-		'the thank-you page; the checkout session id is an unguessable capability held by the payer'
+		'the thank-you page; the checkout session id is an unguessable capability held by the payer',
+	'api/unsubscribe/[token]':
+		'RFC 8058 one-click unsubscribe: no cookie is sent; the signed token names address and list'
 };
 
 const HANDLERS = ['GET', 'POST', 'PUT', 'PATCH', 'DELETE', 'OPTIONS', 'HEAD', 'fallback'];

@@ -9,6 +9,7 @@ import { accountReceipts } from '$lib/server/ledger/gift-receipts';
 import {
 	CATEGORY_LABELS,
 	getPreferences,
+	preferencesForm,
 	savePreferences,
 	UPDATE_CATEGORIES
 } from '$lib/server/mail/preferences';
@@ -57,18 +58,6 @@ const changeForm = z.object({
 	adoptionId: z.string().min(1, 'Choose an adoption.'),
 	levelId: z.string().min(1, 'Choose a monthly level.'),
 	amount
-});
-
-const checkbox = z
-	.string()
-	.optional()
-	.transform((v) => v === 'on');
-const preferencesForm = z.object({
-	homecoming: checkbox,
-	waypoint: checkbox,
-	fieldNote: checkbox,
-	lastSignal: checkbox,
-	keepFollowing: checkbox
 });
 
 export const actions: Actions = {

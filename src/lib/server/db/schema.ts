@@ -247,10 +247,15 @@ export const outbox = pgTable(
 		lockedUntil: timestamp('locked_until', { withTimezone: true, mode: 'date' }),
 		lastError: text('last_error'),
 		messageId: text('message_id').notNull(),
+		/** The patient event a supporter update was sent for (counts per event on the staff page). */
+		patientEventId: integer('patient_event_id'),
 		createdAt: timestamp('created_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow(),
 		sentAt: timestamp('sent_at', { withTimezone: true, mode: 'date' })
 	},
-	(t) => [index('outbox_due_idx').on(t.status, t.nextAttemptAt)]
+	(t) => [
+		index('outbox_due_idx').on(t.status, t.nextAttemptAt),
+		index('outbox_patient_event_idx').on(t.patientEventId)
+	]
 );
 
 /** Mail caught by the local SMTP server (demo, development, tests). */
@@ -349,7 +354,16 @@ export const patientEvents = pgTable(
 		occurredAt: timestamp('occurred_at', { withTimezone: true, mode: 'date' })
 			.notNull()
 			.defaultNow(),
-		processedAt: timestamp('processed_at', { withTimezone: true, mode: 'date' })
+		processedAt: timestamp('processed_at', { withTimezone: true, mode: 'date' }),
+		/** A last-signal update waits for this note, written by staff: never automatic wording. */
+		message: text('message'),
+		approvedBy: text('approved_by').references(() => users.id, { onDelete: 'set null' }),
+		approvedAt: timestamp('approved_at', { withTimezone: true, mode: 'date' }),
+		/** What the fan-out did: 'sent', 'superseded' (a later waypoint names the step), 'withheld'. */
+		outcome: text('outcome'),
+		recipientCount: integer('recipient_count'),
+		/** An instance fanning the event out holds it until then (renewed as it goes). */
+		claimedUntil: timestamp('claimed_until', { withTimezone: true, mode: 'date' })
 	},
 	(t) => [index('patient_events_unprocessed_idx').on(t.processedAt, t.id)]
 );
@@ -770,4 +784,11 @@ export const mailPreferences = pgTable('mail_preferences', {
 	/** Keep receiving a patient's updates after the adoption ends. */
 	keepFollowing: boolean('keep_following').notNull().default(false),
 	updatedAt: timestamp('updated_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow()
+});
+
+/** Secrets the instances share (signing unsubscribe links), made once on first use. */
+export const appSecrets = pgTable('app_secrets', {
+	name: text('name').primaryKey(),
+	value: text('value').notNull(),
+	createdAt: timestamp('created_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow()
 });

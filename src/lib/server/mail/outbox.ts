@@ -13,6 +13,8 @@ export interface OutgoingMail {
 	html: string;
 	text: string;
 	headers?: Record<string, string>;
+	/** The patient event a supporter update is sent for. */
+	patientEventId?: number;
 }
 
 /**
@@ -31,6 +33,7 @@ export async function enqueueMail(tx: Executor, mail: OutgoingMail): Promise<boo
 			html: mail.html,
 			text: mail.text,
 			headers: mail.headers ?? {},
+			patientEventId: mail.patientEventId ?? null,
 			messageId: newMessageId()
 		})
 		.onConflictDoNothing({ target: outbox.dedupeKey })

@@ -2,6 +2,7 @@
 // supporter without an account has preferences too; an address with no row gets every update.
 // Transactional mail (receipts, gift notices, sign-in links) does not look here: it is always sent.
 import { eq, sql } from 'drizzle-orm';
+import { z } from 'zod';
 import type { Executor } from '../db';
 import { mailPreferences } from '../db/schema';
 
@@ -73,3 +74,17 @@ export async function savePreferences(
 		});
 	return values;
 }
+
+const checkbox = z
+	.string()
+	.optional()
+	.transform((v) => v === 'on');
+
+/** The preferences form (account page and the signed-link page): an unchecked box is "no". */
+export const preferencesForm = z.object({
+	homecoming: checkbox,
+	waypoint: checkbox,
+	fieldNote: checkbox,
+	lastSignal: checkbox,
+	keepFollowing: checkbox
+});

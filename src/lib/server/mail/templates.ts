@@ -35,6 +35,51 @@ export const TEMPLATE_VARIABLES = {
 		'giftMessage',
 		'claimLink',
 		'patientLink'
+	],
+	'homecoming-update': [
+		'name',
+		'patientName',
+		'releaseDate',
+		'releaseArea',
+		'releaseStory',
+		'photoUrl',
+		'photoAlt',
+		'patientLink',
+		'reason',
+		'unsubscribeLink',
+		'preferencesLink'
+	],
+	'waypoint-update': [
+		'name',
+		'patientName',
+		'distance',
+		'daysSinceRelease',
+		'asOf',
+		'mapUrl',
+		'mapAlt',
+		'journeyLink',
+		'reason',
+		'unsubscribeLink',
+		'preferencesLink'
+	],
+	'field-note': [
+		'name',
+		'patientName',
+		'storyTitle',
+		'storyExcerpt',
+		'storyLink',
+		'reason',
+		'unsubscribeLink',
+		'preferencesLink'
+	],
+	'last-signal': [
+		'name',
+		'patientName',
+		'farewell',
+		'journeyLink',
+		'reason',
+		'unsubscribeLink',
+		'preferencesLink'
 	]
 } as const;
 
