@@ -47,11 +47,7 @@ export const init: ServerInit = async () => {
 			const { ensureDemoAdoptions } = await import('$lib/server/demo-adoptions');
 			await ensureDemoAdoptions();
 		}
-		printDemoBanner(
-			state,
-			process.env.DATA_DIR ?? './data/tideward',
-			mail.catcherPort
-		);
+		printDemoBanner(state, process.env.DATA_DIR ?? './data/tideward', mail.catcherPort);
 	}
 	startJourneyScheduler();
 	// Gift notices wait for their delivery date (checked every 5 minutes by default).
