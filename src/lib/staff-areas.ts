@@ -9,6 +9,7 @@ export const STAFF_AREAS = {
 	settings: { href: '/staff/settings', label: 'Settings', roles: ['admin'] },
 	audit: { href: '/staff/audit', label: 'Audit log', roles: ['admin'] },
 	mail: { href: '/staff/mail', label: 'Caught mail', roles: ['admin'] },
+	outbox: { href: '/staff/outbox', label: 'Outbox', roles: ['admin', 'development'] },
 	/** Controls for the local test payment service; listed only in fake mode (no real key). */
 	sandbox: { href: '/staff/sandbox', label: 'Payment sandbox', roles: ['admin'] }
 } as const satisfies Record<string, { href: string; label: string; roles: readonly Role[] }>;

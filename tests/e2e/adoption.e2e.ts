@@ -101,6 +101,27 @@ describe('adopting a patient', () => {
 		]);
 		await page.getByRole('status').filter({ hasText: 'is confirmed' }).waitFor({ timeout: 30_000 });
 
+		// An administrator moves the test service's clock a month: the monthly gift renews.
+		const admin = await newPage(browser());
+		await signIn(admin.page, demoUser('admin').email);
+		await openForm(admin.page, '/staff/sandbox');
+		await admin.page.getByRole('button', { name: 'Move the clock a month' }).click();
+		await admin.page.getByRole('status').first().waitFor();
+		await admin.context.close();
+		const swell = page
+			.getByRole('region', { name: 'Your adoptions' })
+			.getByRole('listitem')
+			.filter({ hasText: 'Swell' })
+			.first();
+		// (The payments list sits in a closed <details>: counted, not looked at.)
+		const payments = swell.locator('details li');
+		await page.goto('/account');
+		for (let i = 0; i < 30 && (await payments.count()) < 2; i++) {
+			await page.waitForTimeout(500);
+			await page.reload();
+		}
+		expect(await payments.count()).toBe(2);
+
 		await openForm(page, '/account');
 		await Promise.all([
 			page.waitForURL(/\/fake-stripe\/billing\//),

@@ -128,10 +128,10 @@ export async function listOutbox(executor: Executor, query: OutboxListQuery) {
 	};
 }
 
-// Back in the queue, due now and unclaimed. The attempts and the last error stay, so staff (and
-// the worker's give-up rule) still see the history: a retried row that fails again is given up
-// at once unless the failure was a temporary one and attempts remain.
-// The database's clock, as the worker's due check reads it.
+// Back in the queue, due now by the database's clock (the one the worker's due check reads) and
+// unclaimed. The attempts and the last error stay, so staff and the worker's give-up rule still
+// see the history: a retried row that fails again is given up at once unless the failure is a
+// temporary one and attempts remain.
 const requeue = () => ({
 	status: 'pending' as const,
 	nextAttemptAt: sql`now()`,
