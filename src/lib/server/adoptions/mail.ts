@@ -95,3 +95,22 @@ export async function queueMonthlyGiftFailed(tx: Executor, giftId: string) {
 		...mail
 	});
 }
+
+/** The receipt of a gift made outside the site (cheque, cash, transfer), e-mailed to its donor. */
+export async function queueReceiptMail(tx: Executor, receipt: Receipt) {
+	const mail = await renderEmail('receipt', {
+		...(await organisationVars(tx)),
+		name: receipt.donorName,
+		email: receipt.donorEmail,
+		amount: formatMoney(receipt.amountCents, receipt.currency),
+		receiptNumber: formatReceiptNumber(receipt.number),
+		receiptText: await receiptText(tx, receipt),
+		accountLink: `${appOrigin()}/account`
+	});
+	return enqueueMail(tx, {
+		dedupeKey: `receipt:${receipt.id}`,
+		category: 'transactional',
+		to: receipt.donorEmail,
+		...mail
+	});
+}

@@ -666,6 +666,9 @@ export const GIFT_STATUSES = [
 	'disputed'
 ] as const;
 export type GiftStatus = (typeof GIFT_STATUSES)[number];
+export const GIFT_SOURCES = ['processor', 'manual'] as const;
+export const MANUAL_GIFT_METHODS = ['cheque', 'cash', 'bank_transfer', 'other'] as const;
+export type ManualGiftMethod = (typeof MANUAL_GIFT_METHODS)[number];
 
 /**
  * One payment for an adoption (the first, or a monthly renewal), tied to every processor object
@@ -675,9 +678,16 @@ export const gifts = pgTable(
 	'gifts',
 	{
 		id: text('id').primaryKey(),
-		adoptionId: text('adoption_id')
-			.notNull()
-			.references(() => adoptions.id, { onDelete: 'restrict' }),
+		/** The adoption paid for; null for a gift recorded by hand (cheque, cash). */
+		adoptionId: text('adoption_id').references(() => adoptions.id, { onDelete: 'restrict' }),
+		/** 'processor' (paid online) or 'manual' (recorded by development staff). */
+		source: text('source', { enum: GIFT_SOURCES }).notNull().default('processor'),
+		/** How a manual gift was paid, its reference (cheque number…), and who gave it. */
+		method: text('method', { enum: MANUAL_GIFT_METHODS }),
+		reference: text('reference'),
+		donorName: text('donor_name'),
+		donorEmail: text('donor_email'),
+		recordedBy: text('recorded_by').references(() => users.id, { onDelete: 'set null' }),
 		status: text('status', { enum: GIFT_STATUSES }).notNull(),
 		amountCents: integer('amount_cents').notNull(),
 		currency: text('currency').notNull(),
@@ -701,6 +711,12 @@ export const gifts = pgTable(
 	},
 	(t) => [
 		index('gifts_adoption_idx').on(t.adoptionId),
+		index('gifts_paid_at_idx').on(t.paidAt),
+		index('gifts_donor_email_idx').on(t.donorEmail),
+		check(
+			'gifts_source_shape',
+			sql`(${t.source} = 'processor' AND ${t.adoptionId} IS NOT NULL) OR (${t.source} = 'manual' AND ${t.donorEmail} IS NOT NULL AND ${t.donorName} IS NOT NULL)`
+		),
 		uniqueIndex('gifts_payment_intent_unique').on(t.paymentIntentId)
 	]
 );

@@ -29,19 +29,30 @@ export async function nextReceiptNumber(tx: Executor): Promise<number> {
 	return row.value;
 }
 
+const METHOD_WORDS: Record<string, string> = {
+	cheque: 'by cheque',
+	cash: 'in cash',
+	bank_transfer: 'by bank transfer',
+	other: ''
+};
+
 /** A gift with what its receipt needs: who gave, for what, and the level's goods. */
 async function giftForReceipt(tx: Executor, giftId: string) {
 	const [row] = await tx
 		.select({
 			id: gifts.id,
+			source: gifts.source,
+			method: gifts.method,
+			reference: gifts.reference,
 			status: gifts.status,
 			amountCents: gifts.amountCents,
 			refundedCents: gifts.refundedCents,
 			currency: gifts.currency,
 			fairMarketValueCents: gifts.fairMarketValueCents,
 			paidAt: gifts.paidAt,
-			donorName: adoptions.supporterName,
-			donorEmail: adoptions.supporterEmail,
+			// A manual gift names its donor; an online one is the adoption's payer.
+			donorName: sql<string>`COALESCE(${gifts.donorName}, ${adoptions.supporterName})`,
+			donorEmail: sql<string>`COALESCE(${gifts.donorEmail}, ${adoptions.supporterEmail})`,
 			interval: adoptions.interval,
 			kind: adoptions.kind,
 			recipientName: adoptions.recipientName,
@@ -51,16 +62,22 @@ async function giftForReceipt(tx: Executor, giftId: string) {
 			tokenItem: adoptionLevels.goodsTokenItem
 		})
 		.from(gifts)
-		.innerJoin(adoptions, eq(adoptions.id, gifts.adoptionId))
-		.innerJoin(patients, eq(patients.id, adoptions.patientId))
-		.innerJoin(adoptionLevels, eq(adoptionLevels.id, adoptions.levelId))
+		.leftJoin(adoptions, eq(adoptions.id, gifts.adoptionId))
+		.leftJoin(patients, eq(patients.id, adoptions.patientId))
+		.leftJoin(adoptionLevels, eq(adoptionLevels.id, adoptions.levelId))
 		.where(eq(gifts.id, giftId));
-	return row ?? null;
+	if (!row) return null;
+	return { ...row, goods: row.goods ?? '', tokenItem: row.tokenItem ?? false };
 }
 
 type GiftForReceipt = NonNullable<Awaited<ReturnType<typeof giftForReceipt>>>;
 
 function description(gift: GiftForReceipt): string {
+	if (gift.source === 'manual' || !gift.levelName) {
+		const how = METHOD_WORDS[gift.method ?? 'other'] ?? '';
+		const ref = gift.reference ? ` (reference ${gift.reference})` : '';
+		return `Gift${how ? ` ${how}` : ''}${ref}`;
+	}
 	const what = `${gift.levelName} adoption of ${gift.patientName}`;
 	const how = gift.interval === 'month' ? ', monthly gift' : '';
 	const forWhom =

@@ -93,6 +93,30 @@ const DEMO: { [N in TemplateName]: (ctx: DemoContext) => OwnVars<N> } = {
 			accountLink: `${site}/account`
 		};
 	},
+	receipt: ({ org, site, now }) => {
+		const rules = receiptRules('US');
+		const number = 1043;
+		const terms = rules.terms({
+			amountCents: 150_00,
+			fairMarketValueCents: 0,
+			goodsDescription: '',
+			tokenItem: false,
+			paidAt: now
+		});
+		const wording = rules.wording(terms, {
+			organisation: { legalName: '', displayName: org.orgName },
+			donorName: 'Dolores Ventura Isern',
+			number
+		});
+		return {
+			name: 'Dolores Ventura Isern',
+			email: 'dolores.supporter@tideward.test',
+			amount: '$150.00',
+			receiptNumber: formatReceiptNumber(number),
+			receiptText: rules.plainText(wording),
+			accountLink: `${site}/account`
+		};
+	},
 	'monthly-gift-failed': ({ site }) => ({
 		name: 'Aiko Brandt Lugo',
 		patientName: 'Timón',

@@ -28,6 +28,7 @@ export const TEMPLATE_VARIABLES = {
 		'accountLink'
 	],
 	'monthly-gift-failed': ['name', 'patientName', 'amount', 'reason', 'link'],
+	receipt: ['name', 'email', 'amount', 'receiptNumber', 'receiptText', 'accountLink'],
 	'gift-notice': [
 		'recipientName',
 		'giverName',
