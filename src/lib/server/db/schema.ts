@@ -740,8 +740,55 @@ export const payouts = pgTable('payouts', {
 	currency: text('currency').notNull(),
 	arrivalDate: timestamp('arrival_date', { withTimezone: true, mode: 'date' }),
 	failureMessage: text('failure_message'),
+	/** Development staff confirm a payout matches the gifts; who and when. */
+	reconciledBy: text('reconciled_by').references(() => users.id, { onDelete: 'set null' }),
+	reconciledAt: timestamp('reconciled_at', { withTimezone: true, mode: 'date' }),
+	reconcileNote: text('reconcile_note'),
 	...timestamps
 });
+
+/**
+ * The balance transactions a payout paid out (charges, refunds, dispute withdrawals and
+ * reversals, with their fees), as the processor reports them, each matched to a gift when one
+ * is found by its charge.
+ */
+export const payoutLines = pgTable(
+	'payout_lines',
+	{
+		/** The processor's balance transaction id. */
+		id: text('id').primaryKey(),
+		payoutId: text('payout_id').notNull(),
+		type: text('type').notNull(),
+		reportingCategory: text('reporting_category').notNull(),
+		amountCents: integer('amount_cents').notNull(),
+		feeCents: integer('fee_cents').notNull(),
+		netCents: integer('net_cents').notNull(),
+		currency: text('currency').notNull(),
+		/** The charge, refund, dispute or payout the transaction belongs to. */
+		sourceId: text('source_id'),
+		/** The charge behind it (for a refund or a dispute, the charge it reverses). */
+		chargeId: text('charge_id'),
+		giftId: text('gift_id').references(() => gifts.id, { onDelete: 'set null' }),
+		createdAt: timestamp('created_at', { withTimezone: true, mode: 'date' }).notNull()
+	},
+	(t) => [
+		index('payout_lines_payout_idx').on(t.payoutId),
+		index('payout_lines_charge_idx').on(t.chargeId)
+	]
+);
+
+/** A person's note on a reconciliation difference (keyed by what the difference is about). */
+export const reconciliationNotes = pgTable(
+	'reconciliation_notes',
+	{
+		payoutId: text('payout_id').notNull(),
+		issueKey: text('issue_key').notNull(),
+		note: text('note').notNull(),
+		authorId: text('author_id').references(() => users.id, { onDelete: 'set null' }),
+		createdAt: timestamp('created_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow()
+	},
+	(t) => [primaryKey({ columns: [t.payoutId, t.issueKey] })]
+);
 
 /** Named gapless counters (receipt numbers): incremented inside the transaction that uses them. */
 export const counters = pgTable('counters', {

@@ -3,7 +3,7 @@
 // is applied once however often it is delivered, and a crash before the commit leaves nothing
 // behind for the redelivery to trip over. Inserts are keyed on processor ids, so events arriving
 // out of order (an invoice before its checkout session) reach the same final state.
-import { and, eq, gt, inArray, ne, sql } from 'drizzle-orm';
+import { and, eq, gt, ne, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import type Stripe from 'stripe';
 import { db, type Executor } from '../db';
@@ -12,6 +12,7 @@ import { notifyGiftIfDue } from '../adoptions/gifts';
 import { queueGiftThanks, queueMonthlyGiftFailed } from '../adoptions/mail';
 import { applySubscriptionState } from '../adoptions/subscriptions';
 import { issueGiftReceipt, reviseGiftReceipt } from '../ledger/gift-receipts';
+import { fetchPayoutLines, storePayoutLines } from '../ledger/reconcile';
 import { stripe } from './client';
 
 export type EventOutcome = 'applied' | 'duplicate' | 'ignored';
@@ -339,15 +340,8 @@ async function prepare(event: Stripe.Event): Promise<Effect | null> {
 		case 'payout.created':
 		case 'payout.updated': {
 			const payout = event.data.object;
-			const txnIds: string[] = [];
-			if (event.type === 'payout.paid') {
-				for await (const txn of stripe().balanceTransactions.list({
-					payout: payout.id,
-					limit: 100
-				})) {
-					txnIds.push(txn.id);
-				}
-			}
+			// What the payout paid out, for reconciliation (read before the transaction).
+			const lines = event.type === 'payout.paid' ? await fetchPayoutLines(payout.id) : [];
 			return async (tx) => {
 				const values = {
 					status: payout.status,
@@ -361,12 +355,7 @@ async function prepare(event: Stripe.Event): Promise<Effect | null> {
 					.insert(payouts)
 					.values({ id: payout.id, ...values })
 					.onConflictDoUpdate({ target: payouts.id, set: values });
-				if (txnIds.length) {
-					await tx
-						.update(gifts)
-						.set({ payoutId: payout.id, updatedAt: new Date() })
-						.where(inArray(gifts.balanceTransactionId, txnIds));
-				}
+				if (lines.length) await storePayoutLines(tx, payout.id, lines);
 			};
 		}
 		default:
