@@ -6,6 +6,7 @@ import { amount } from '$lib/server/adoptions/form';
 import { ChangeRefused, changeMonthlyGift } from '$lib/server/adoptions/subscriptions';
 import { db } from '$lib/server/db';
 import { accountReceipts } from '$lib/server/ledger/gift-receipts';
+import { accountStatementYears } from '$lib/server/ledger/statements';
 import {
 	CATEGORY_LABELS,
 	getPreferences,
@@ -33,17 +34,19 @@ const passwordForm = z
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRoles(event);
-	const [adoptions, receipts, preferences, levels] = await Promise.all([
+	const [adoptions, receipts, preferences, levels, statementYears] = await Promise.all([
 		accountAdoptions(user.id),
 		accountReceipts(user.id),
 		getPreferences(db(), user.email),
-		activeLevels()
+		activeLevels(),
+		accountStatementYears(user.id)
 	]);
 	return {
 		account: { name: user.name, email: user.email, roles: user.roles },
 		// The supporter's own adoptions; the payer's e-mail stays on the server.
 		adoptions: adoptions.map(({ supporterEmail: _payer, ...rest }) => rest),
 		receipts,
+		statementYears,
 		preferences,
 		categories: UPDATE_CATEGORIES.map((c) => ({ name: c, ...CATEGORY_LABELS[c] })),
 		monthlyLevels: levels

@@ -117,6 +117,19 @@ const DEMO: { [N in TemplateName]: (ctx: DemoContext) => OwnVars<N> } = {
 			accountLink: `${site}/account`
 		};
 	},
+	'year-end-statement': ({ site }) => ({
+		name: 'Dolores Ventura Isern',
+		year: 2026,
+		statementText: [
+			'Gifts received in 2026:',
+			'No. 001042  2026-03-04  Swell adoption of Perla, monthly gift: $15.00, deductible $3.00',
+			'No. 001101  2026-04-04  Swell adoption of Perla, monthly gift: $15.00, deductible $15.00',
+			'',
+			'Total given: $30.00',
+			'Total deductible (as stated on each receipt): $18.00'
+		].join('\n'),
+		accountLink: `${site}/account`
+	}),
 	'monthly-gift-failed': ({ site }) => ({
 		name: 'Aiko Brandt Lugo',
 		patientName: 'Timón',

@@ -29,6 +29,7 @@ export const TEMPLATE_VARIABLES = {
 	],
 	'monthly-gift-failed': ['name', 'patientName', 'amount', 'reason', 'link'],
 	receipt: ['name', 'email', 'amount', 'receiptNumber', 'receiptText', 'accountLink'],
+	'year-end-statement': ['name', 'year', 'statementText', 'accountLink'],
 	'gift-notice': [
 		'recipientName',
 		'giverName',

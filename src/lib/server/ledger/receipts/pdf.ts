@@ -178,7 +178,7 @@ const COLOURS = {
 	ink500: hex('#4d5f68')
 };
 
-type FaceName = 'heading' | 'body' | 'strong' | 'italic';
+export type FaceName = 'heading' | 'body' | 'strong' | 'italic';
 
 /** Latin first, then Latin Extended: each character is drawn by the first file that has it. */
 const FONT_FILES: Record<FaceName, readonly string[]> = {
@@ -241,8 +241,15 @@ export async function embedReceiptFonts(
 	doc: PDFDocument,
 	content: ReceiptContent
 ): Promise<ReceiptFonts> {
+	return embedFaces(doc, textsByFace(content));
+}
+
+/** The bundled faces, each with only the files its texts need (other Ledger PDFs use it too). */
+export async function embedFaces(
+	doc: PDFDocument,
+	texts: Record<FaceName, string[]>
+): Promise<ReceiptFonts> {
 	doc.registerFontkit(fontkit);
-	const texts = textsByFace(content);
 	return {
 		heading: await embedStack(doc, FONT_FILES.heading, texts.heading),
 		body: await embedStack(doc, FONT_FILES.body, texts.body),
