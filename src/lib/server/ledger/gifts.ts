@@ -138,7 +138,8 @@ export async function listGifts(query: GiftQuery, executor: Executor = db()) {
 	const [totals] = await executor
 		.select({
 			total: count(),
-			amountCents: sum(gifts.amountCents),
+			// Failed payments brought no money: they are listed, not added up.
+			amountCents: sql<string>`sum(${gifts.amountCents}) FILTER (WHERE ${gifts.status} <> 'failed')`,
 			refundedCents: sum(gifts.refundedCents),
 			netCents: sum(gifts.netCents)
 		})
