@@ -6,7 +6,7 @@ import { alias } from 'drizzle-orm/pg-core';
 import { db, type Executor } from '../db';
 import { adoptionLevels, adoptions, gifts, payoutLines, payouts, users } from '../db/schema';
 import { getOrganisationSettings } from '../settings';
-import { csvRow } from './csv';
+import { csvRow, csvStream } from './csv';
 import { payoutReconciliation } from './reconcile';
 
 // ───────────────────────────── payouts ─────────────────────────────
@@ -199,32 +199,9 @@ export function payoutCsvRow(r: PayoutExportRow): string {
 	]);
 }
 
-/** The header, then one chunk per batch, read only when the reader asks for more (pull). */
-export function payoutsCsvStream(
-	batches: AsyncIterable<PayoutExportRow[]>
-): ReadableStream<Uint8Array> {
-	const encoder = new TextEncoder();
-	const iterator = batches[Symbol.asyncIterator]();
-	let headerSent = false;
-	return new ReadableStream<Uint8Array>({
-		async pull(controller) {
-			if (!headerSent) {
-				headerSent = true;
-				controller.enqueue(encoder.encode(csvRow(PAYOUT_CSV_COLUMNS)));
-				return;
-			}
-			const next = await iterator.next();
-			if (next.done) {
-				controller.close();
-				return;
-			}
-			controller.enqueue(encoder.encode(next.value.map(payoutCsvRow).join('')));
-		},
-		async cancel() {
-			await iterator.return?.();
-		}
-	});
-}
+/** The payouts export: one row per payout line (see the README for its columns). */
+export const payoutsCsvStream = (batches: AsyncIterable<PayoutExportRow[]>) =>
+	csvStream(PAYOUT_CSV_COLUMNS, batches, payoutCsvRow);
 
 // ─────────────────────────── monthly close ───────────────────────────
 

@@ -105,11 +105,13 @@ export function giftCsvRow(g: GiftExportRow): string {
 }
 
 /**
- * The export as a byte stream: the header, then one chunk per batch. The next batch is read only
+ * An export as a byte stream: the header, then one chunk per batch. The next batch is read only
  * when the reader asks for more (pull), so a slow download holds one batch, not the whole table.
  */
-export function giftsCsvStream(
-	batches: AsyncIterable<GiftExportRow[]>
+export function csvStream<T>(
+	header: readonly string[],
+	batches: AsyncIterable<T[]>,
+	row: (item: T) => string
 ): ReadableStream<Uint8Array> {
 	const encoder = new TextEncoder();
 	const iterator = batches[Symbol.asyncIterator]();
@@ -118,7 +120,7 @@ export function giftsCsvStream(
 		async pull(controller) {
 			if (!headerSent) {
 				headerSent = true;
-				controller.enqueue(encoder.encode(csvRow(GIFT_CSV_COLUMNS)));
+				controller.enqueue(encoder.encode(csvRow(header)));
 				return;
 			}
 			const next = await iterator.next();
@@ -126,15 +128,17 @@ export function giftsCsvStream(
 				controller.close();
 				return;
 			}
-			let text = '';
-			for (const gift of next.value) text += giftCsvRow(gift);
-			controller.enqueue(encoder.encode(text));
+			controller.enqueue(encoder.encode(next.value.map(row).join('')));
 		},
 		async cancel() {
 			await iterator.return?.();
 		}
 	});
 }
+
+/** The gifts export (see the README for its columns). */
+export const giftsCsvStream = (batches: AsyncIterable<GiftExportRow[]>) =>
+	csvStream(GIFT_CSV_COLUMNS, batches, giftCsvRow);
 
 /** `tideward-gifts-2026-05-01.csv`: named after the day of the export (UTC). */
 export function giftExportFilename(now = new Date()): string {
