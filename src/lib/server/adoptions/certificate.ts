@@ -7,7 +7,7 @@ import sourceSansLatinExt from '@fontsource/source-sans-3/files/source-sans-3-la
 import sourceSansStrongLatin from '@fontsource/source-sans-3/files/source-sans-3-latin-600-normal.woff?inline';
 import sourceSansStrongLatinExt from '@fontsource/source-sans-3/files/source-sans-3-latin-ext-600-normal.woff?inline';
 import fontkit from '@pdf-lib/fontkit';
-import { PDFDocument, rgb, type PDFFont, type RGB } from 'pdf-lib';
+import { PDFDocument, rgb, type PDFFont, type PDFPage, type RGB } from 'pdf-lib';
 import { formatDay } from '$lib/patients';
 
 // The adoption certificate: one US Letter landscape page drawn with pdf-lib. The fonts are bundled
@@ -88,7 +88,7 @@ const isSpace = (char: string) => /\s/u.test(char);
  * Embeds a face's Latin file, and its Latin Extended file only when `texts` need a character that
  * the Latin file lacks, so that a certificate carries no font it does not draw with.
  */
-async function embedStack(
+export async function embedStack(
 	doc: PDFDocument,
 	files: readonly string[],
 	texts: readonly string[]
@@ -603,7 +603,13 @@ export async function certificatePdf(data: CertificateData): Promise<Uint8Array>
 		borderLineCap: 1
 	});
 
-	for (const line of layout.lines) {
+	drawLines(page, layout.lines);
+	return doc.save();
+}
+
+/** Draws laid-out lines, each run in its own font (the receipt PDF draws the same way). */
+export function drawLines(page: PDFPage, lines: readonly PlacedLine[]) {
+	for (const line of lines) {
 		let x = line.x;
 		for (const run of line.runs) {
 			page.drawText(run.text, {
@@ -616,5 +622,4 @@ export async function certificatePdf(data: CertificateData): Promise<Uint8Array>
 			x += run.font.widthOfTextAtSize(run.text, line.size);
 		}
 	}
-	return doc.save();
 }

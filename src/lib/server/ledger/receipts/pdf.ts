@@ -7,8 +7,10 @@ import sourceSansLatinExt from '@fontsource/source-sans-3/files/source-sans-3-la
 import sourceSansStrongLatin from '@fontsource/source-sans-3/files/source-sans-3-latin-600-normal.woff?inline';
 import sourceSansStrongLatinExt from '@fontsource/source-sans-3/files/source-sans-3-latin-ext-600-normal.woff?inline';
 import fontkit from '@pdf-lib/fontkit';
-import { PDFDocument, rgb, type PDFFont, type RGB } from 'pdf-lib';
+import { PDFDocument, rgb, type RGB } from 'pdf-lib';
 import {
+	drawLines,
+	embedStack,
 	fitText,
 	measure,
 	runsOf,
@@ -189,30 +191,6 @@ const FONT_FILES: Record<FaceName, readonly string[]> = {
 };
 
 export type ReceiptFonts = Record<FaceName, FontStack>;
-
-function fromDataUrl(url: string): Uint8Array {
-	return Buffer.from(url.slice(url.indexOf(',') + 1), 'base64');
-}
-
-/** As the certificate does: the Latin Extended file only when `texts` need one of its glyphs. */
-async function embedStack(
-	doc: PDFDocument,
-	files: readonly string[],
-	texts: readonly string[]
-): Promise<FontStack> {
-	const stack: { font: PDFFont; chars: ReadonlySet<number> }[] = [];
-	const wanted = new Set<number>();
-	for (const text of texts) {
-		for (const char of text) if (!/\s/u.test(char)) wanted.add(char.codePointAt(0)!);
-	}
-	for (const [i, file] of files.entries()) {
-		const missing = [...wanted].some((c) => !stack.some((f) => f.chars.has(c)));
-		if (i > 0 && !missing) break;
-		const font = await doc.embedFont(fromDataUrl(file), { subset: true });
-		stack.push({ font, chars: new Set(font.getCharacterSet()) });
-	}
-	return stack;
-}
 
 /** Every text the receipt draws, by face, so that each face embeds only what it needs. */
 function textsByFace(content: ReceiptContent): Record<FaceName, string[]> {
@@ -500,18 +478,6 @@ export async function renderReceiptPdf(data: ReceiptPdfData): Promise<Uint8Array
 			borderWidth: 1
 		});
 	}
-	for (const line of layout.lines) {
-		let x = line.x;
-		for (const run of line.runs) {
-			page.drawText(run.text, {
-				x,
-				y: line.y,
-				size: line.size,
-				font: run.font,
-				color: line.colour
-			});
-			x += run.font.widthOfTextAtSize(run.text, line.size);
-		}
-	}
+	drawLines(page, layout.lines);
 	return doc.save();
 }
