@@ -16,20 +16,19 @@ describe('the Ledger in the browser', () => {
 		});
 
 		await page.getByLabel('Kind').selectOption('manual');
+		// The demo has no gift recorded by hand: the answer for this filter is an empty list.
 		await page
 			.getByRole('status')
-			.filter({ hasText: /match these filters/ })
+			.filter({ hasText: /^0 gifts match these filters$/ })
 			.waitFor();
 		expect(new URL(page.url()).searchParams.get('interval')).toBe('manual');
 		expect(apiCalls.some((u) => u.includes('interval=manual'))).toBe(true);
 		expect(await page.evaluate(() => (window as unknown as { mark?: number }).mark)).toBe(1);
-		// The demo has no gift recorded by hand: the filtered table is empty.
-		await expect(page.getByRole('status').first().textContent()).resolves.toMatch(/^0 gifts/);
 
 		await page.getByLabel('Kind').selectOption('');
 		await page
 			.getByRole('status')
-			.filter({ hasText: /^\d+ gifts?$/ })
+			.filter({ hasText: /^[1-9][\d,]* gifts?$/ })
 			.waitFor();
 		expect(new URL(page.url()).searchParams.has('interval')).toBe(false);
 		expect(await page.evaluate(() => (window as unknown as { mark?: number }).mark)).toBe(1);
