@@ -64,8 +64,17 @@ export default {
 				}
 			},
 			fontFamily: {
-				heading: ['Merriweather', 'Georgia', 'Cambria', 'serif'],
-				sans: ['"Source Sans 3"', 'ui-sans-serif', 'system-ui', 'Segoe UI', 'Arial', 'sans-serif']
+				// The "fallback" faces (src/fonts.css) are sized like ours: no jump when ours arrive.
+				heading: ['Merriweather', '"Merriweather fallback"', 'Georgia', 'Cambria', 'serif'],
+				sans: [
+					'"Source Sans 3"',
+					'"Source Sans 3 fallback"',
+					'ui-sans-serif',
+					'system-ui',
+					'Segoe UI',
+					'Arial',
+					'sans-serif'
+				]
 			}
 		}
 	}

@@ -1,6 +1,7 @@
 // How long a patient has been with us, or home again. Pure: the caller passes "today" so that the
 // server and the browser agree on one day and a page never changes between render and hydration.
 import type { PatientStatus } from '$lib/server/db/schema';
+import { formatDecimal } from './format';
 import { isInCare } from './patients';
 
 export type CareDays = { kind: 'in_care' | 'since_release'; days: number } | null;
@@ -52,16 +53,14 @@ export function careDays(
 	return null;
 }
 
-const count = new Intl.NumberFormat('en-US');
-
 /** "12 days in care", "Released yesterday", … for cards and profiles. */
 export function describeCareDays(value: CareDays): string | null {
 	if (value === null) return null;
 	const n = value.days;
 	if (value.kind === 'in_care') {
 		if (n === 0) return 'Admitted today';
-		return `${count.format(n)} ${n === 1 ? 'day' : 'days'} in care`;
+		return `${formatDecimal(n)} ${n === 1 ? 'day' : 'days'} in care`;
 	}
 	if (n === 0) return 'Released today';
-	return `${count.format(n)} ${n === 1 ? 'day' : 'days'} since release`;
+	return `${formatDecimal(n)} ${n === 1 ? 'day' : 'days'} since release`;
 }

@@ -2,6 +2,7 @@
 // schema module (server-only) out of the browser bundle while the Records below still fail to
 // compile when the schema gains a value that has no label here.
 import type { AdmissionReason, LifeStage, PatientStatus, Species } from '$lib/server/db/schema';
+import { formatDecimal, formatLongDateUtc } from './format';
 
 export interface SpeciesLabel {
 	common: string;
@@ -73,26 +74,17 @@ export const STATUS_BADGE_CLASSES: Record<PatientStatus, string> = {
 };
 
 // Dates are stored as plain calendar days ('YYYY-MM-DD'); formatting them in UTC keeps a day from
-// shifting to the day before for readers west of Greenwich.
-const dayFormat = new Intl.DateTimeFormat('en-US', {
-	year: 'numeric',
-	month: 'long',
-	day: 'numeric',
-	timeZone: 'UTC'
-});
-
+// shifting to the day before for readers west of Greenwich. No Intl here: see $lib/format.
 export function formatDay(day: string): string {
 	const date = new Date(`${day}T00:00:00Z`);
-	return Number.isNaN(date.getTime()) ? day : dayFormat.format(date);
+	return Number.isNaN(date.getTime()) ? day : formatLongDateUtc(date);
 }
-
-const oneDecimal = new Intl.NumberFormat('en-US', { maximumFractionDigits: 1 });
 
 /** Straight carapace length; numeric columns arrive as strings. */
 export function formatLengthCm(cm: string | null): string | null {
 	if (cm === null) return null;
 	const value = Number(cm);
-	return Number.isFinite(value) ? `${oneDecimal.format(value)} cm` : null;
+	return Number.isFinite(value) ? `${formatDecimal(value, 1)} cm` : null;
 }
 
 /** Weight, in grams below one kilogram (post-hatchlings weigh a few dozen grams). */
@@ -101,5 +93,5 @@ export function formatWeightKg(kg: string | null): string | null {
 	const value = Number(kg);
 	if (!Number.isFinite(value)) return null;
 	if (value < 1) return `${Math.round(value * 1000)} g`;
-	return `${oneDecimal.format(value)} kg`;
+	return `${formatDecimal(value, 1)} kg`;
 }

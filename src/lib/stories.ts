@@ -1,6 +1,7 @@
 // Words and formats for stories, shared by server and browser (type-only schema import, as in
 // $lib/patients: a new kind without a label here fails to compile).
 import type { StoryKind } from '$lib/server/db/schema';
+import { formatLongDateUtc } from './format';
 
 export const STORY_KIND_LABELS: Record<StoryKind, string> = {
 	admission: 'Admission',
@@ -19,16 +20,9 @@ export const STORY_KIND_PLURALS: Record<StoryKind, string> = {
 	general: 'News'
 };
 
-const dayFormat = new Intl.DateTimeFormat('en-US', {
-	year: 'numeric',
-	month: 'long',
-	day: 'numeric',
-	timeZone: 'UTC'
-});
-
-/** The day a story was published, read in UTC on server and browser alike. */
+/** The day a story was published, read in UTC on server and browser alike (no Intl: $lib/format). */
 export function formatPublished(at: Date | string): string {
-	return dayFormat.format(typeof at === 'string' ? new Date(at) : at);
+	return formatLongDateUtc(typeof at === 'string' ? new Date(at) : at);
 }
 
 /** 'YYYY-MM-DD' for a <time datetime>. */

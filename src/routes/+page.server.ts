@@ -1,8 +1,11 @@
 import { todayUtc } from '$lib/patient-days';
 import { listPublicPatients } from '$lib/server/patients';
+import { publicRead } from '$lib/server/public-cache';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async () => ({
-	patients: await listPublicPatients({ inCareOnly: true, limit: 3 }),
+	patients: await publicRead('home:patients', () =>
+		listPublicPatients({ inCareOnly: true, limit: 3 })
+	),
 	today: todayUtc()
 });

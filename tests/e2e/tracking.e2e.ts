@@ -61,6 +61,8 @@ describe('the Tracking desk and the public journey', () => {
 		page.on('request', (request) => hosts.add(new URL(request.url()).hostname));
 		await page.goto('/patients/perla');
 		const map = page.getByRole('region', { name: /journey/i });
+		// MapLibre loads only once the map comes near the screen.
+		await map.scrollIntoViewIfNeeded();
 		await map.locator('canvas').first().waitFor();
 		const slider = page.getByLabel('Replay the journey up to');
 		await slider.focus();

@@ -139,7 +139,10 @@ describe('no public surface carries the raw track', () => {
 		const page = await patientPage(publicEvent(`/patients/${SLUG}`, { slug: SLUG }));
 		const pageText = JSON.stringify(page);
 		expectNoRawTrack('patient page', pageText);
-		expectOnGridAndDelayed('patient page journey', (page as { journey: unknown }).journey);
+		expectOnGridAndDelayed(
+			'patient page journey',
+			JSON.parse((page as { journeyJson: string }).journeyJson)
+		);
 
 		const surfaces: Array<[string, () => Promise<string>]> = [
 			['/', async () => JSON.stringify(await homePage(publicEvent('/')))],

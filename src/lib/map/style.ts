@@ -1,5 +1,8 @@
 import type { FeatureCollection, MultiLineString } from 'geojson';
 import type { StyleSpecification } from 'maplibre-gl';
+import { MAP_COLOURS } from './colours';
+
+export { MAP_COLOURS };
 
 // The basemap style for every interactive map: our own land, a graticule, and nothing fetched
 // from another server. There are no text layers, so the style needs no glyphs and no sprite;
@@ -7,20 +10,6 @@ import type { StyleSpecification } from 'maplibre-gl';
 
 /** Served by src/routes/map/land.json; resolved against the page's origin by MapLibre. */
 export const LAND_URL = '/map/land.json';
-
-/** Map colours, taken from the Tailwind palette (tailwind.config.ts). */
-export const MAP_COLOURS = {
-	sea: '#d5e8ee', // deep-100
-	graticule: '#a9d0dc', // deep-200
-	land: '#eadcb9', // sand-200
-	coast: '#bf914b', // sand-500
-	track: '#13485b', // deep-700
-	cell: '#dc5a40', // coral-500
-	cellOutline: '#ffffff',
-	start: '#1b7a6e', // lagoon-600
-	latest: '#a33622', // coral-700
-	publicCell: '#0c2b37' // deep-900
-} as const;
 
 /** Meridians and parallels every `step` degrees (parallels stop at ±80°, as Mercator does). */
 export function graticule(step = 10): FeatureCollection<MultiLineString> {

@@ -1,5 +1,6 @@
 import { todayUtc } from '$lib/patient-days';
 import { listPublicPatients } from '$lib/server/patients';
+import { publicRead } from '$lib/server/public-cache';
 import { readPatientFilters } from '$lib/server/public-queries';
 import type { PageServerLoad } from './$types';
 
@@ -8,7 +9,9 @@ import type { PageServerLoad } from './$types';
 export const load: PageServerLoad = async ({ url }) => {
 	const { filters, problem } = readPatientFilters(url.searchParams);
 	return {
-		patients: await listPublicPatients(filters),
+		patients: await publicRead(`patients:${JSON.stringify(filters)}`, () =>
+			listPublicPatients(filters)
+		),
 		filters,
 		problem,
 		today: todayUtc()

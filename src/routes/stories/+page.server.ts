@@ -1,5 +1,6 @@
 import { STORY_KINDS, type StoryKind } from '$lib/server/db/schema';
 import { appOrigin } from '$lib/server/config';
+import { publicRead } from '$lib/server/public-cache';
 import { listPublishedStories } from '$lib/server/stories';
 import type { PageServerLoad } from './$types';
 
@@ -12,7 +13,9 @@ export const load: PageServerLoad = async ({ url }) => {
 	const beforeParam = new Date(url.searchParams.get('before') ?? '');
 	const before = Number.isNaN(beforeParam.getTime()) ? undefined : beforeParam;
 
-	const stories = await listPublishedStories({ kind, before, limit: PAGE_SIZE + 1 });
+	const stories = await publicRead(`stories:${kind}:${before?.toISOString()}`, () =>
+		listPublishedStories({ kind, before, limit: PAGE_SIZE + 1 })
+	);
 	const more = stories.length > PAGE_SIZE;
 	const shown = stories.slice(0, PAGE_SIZE);
 	const origin = appOrigin();

@@ -2,6 +2,7 @@ import { DrizzlePostgreSQLAdapter } from '@lucia-auth/adapter-drizzle';
 import { Lucia, TimeSpan } from 'lucia';
 import { db } from '../db';
 import { sessions, users, type Role } from '../db/schema';
+import { httpsOrigin } from '../security-headers';
 
 export interface SessionUser {
 	id: string;
@@ -16,7 +17,7 @@ function createLucia() {
 		sessionCookie: {
 			name: 'tideward_session',
 			attributes: {
-				// Secure outside localhost: set per request in hooks.server.ts (see sessionCookieSecure).
+				// Secure, HttpOnly and Path are set with each cookie in session.ts (sessionCookieSecure).
 				sameSite: 'lax'
 			}
 		},
@@ -52,8 +53,11 @@ export function lucia(): TidewardLucia {
 	return instance.lucia;
 }
 
-/** Cookies are Secure everywhere but plain-http localhost (dev, demo, tests). */
-export function sessionCookieSecure(url: URL): boolean {
-	const local = ['localhost', '127.0.0.1', '[::1]'].includes(url.hostname);
-	return url.protocol === 'https:' || !local;
+/**
+ * The session cookie is Secure exactly when the origin is https. Over plain http a browser would
+ * refuse to store a Secure cookie, and nobody could sign in; over https it never travels in clear.
+ * Called with the request's origin, which adapter-node builds from ORIGIN, the app's origin.
+ */
+export function sessionCookieSecure(origin: string): boolean {
+	return httpsOrigin(origin);
 }

@@ -5,6 +5,8 @@ import { db } from '../db';
 import { roles as rolesTable, users, type Role } from '../db/schema';
 import { lucia, sessionCookieSecure, type SessionUser } from './lucia';
 
+const SESSION_ID = /^[a-z2-7]{1,100}$/;
+
 export async function rolesOf(userId: string): Promise<Role[]> {
 	const rows = await db()
 		.select({ role: rolesTable.role })
@@ -19,7 +21,7 @@ function setCookie(cookies: Cookies, cookie: Cookie, url: URL): void {
 		path: '/',
 		httpOnly: true,
 		sameSite: 'lax',
-		secure: sessionCookieSecure(url)
+		secure: sessionCookieSecure(url.origin)
 	});
 }
 
@@ -46,6 +48,12 @@ export async function readSession(
 ): Promise<{ user: SessionUser | null; session: App.Locals['session'] }> {
 	const sessionId = cookies.get(lucia().sessionCookieName);
 	if (!sessionId) return { user: null, session: null };
+	// Lucia's session ids are lower-case base32. Anything else was not made here; looked up, a
+	// forged cookie with a NUL ("%00") failed the database query and every page answered 500.
+	if (!SESSION_ID.test(sessionId)) {
+		setCookie(cookies, lucia().createBlankSessionCookie(), url);
+		return { user: null, session: null };
+	}
 	const { session, user } = await lucia().validateSession(sessionId);
 	if (!session || !user || user.disabledAt) {
 		if (session) await lucia().invalidateSession(session.id);

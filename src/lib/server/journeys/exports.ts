@@ -3,21 +3,18 @@
 import { asc, eq } from 'drizzle-orm';
 import { SPECIES_LABELS } from '$lib/patients';
 import type { Executor } from '../db';
+import { csvRow, type CsvValue } from '../ledger/csv';
 import { positions } from '../db/schema';
 import type { PublicPatient } from '../patients';
 import type { JourneyGeoJSON, JourneyPointFeature } from '../tracking/projection';
 import { coordinateUncertaintyInMeters, dataGeneralizations } from '../tracking/uncertainty';
 
-/** One CSV field, quoted when it must be (RFC 4180 §2). */
-function field(value: string | number | null | undefined): string {
-	if (value === null || value === undefined) return '';
-	const text = String(value);
-	return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
-}
-
-export function csvLine(values: Array<string | number | null | undefined>): string {
-	return values.map(field).join(',') + '\r\n';
-}
+/**
+ * One CSV record: the shared cells of the Ledger's exports (RFC 4180 quoting, and the OWASP
+ * formula guard on text: a patient's name or a transmitter id like "-cmd" is typed by staff),
+ * with numbers that may have fractions (coordinates, metres).
+ */
+const csvLine = (values: CsvValue[]) => csvRow(values, { fractions: true });
 
 /** Darwin Core occurrence terms we fill, in column order (https://dwc.tdwg.org/terms/). */
 export const DARWIN_CORE_COLUMNS = [

@@ -4,6 +4,7 @@
 import { isNull, lt, or } from 'drizzle-orm';
 import { db } from '../db';
 import { startLoop, stopLoop } from '../loop';
+import { clearPublicCache } from '../public-cache';
 import { trackingProfiles } from '../db/schema';
 import { recomputeJourney } from './recompute';
 
@@ -17,6 +18,7 @@ export async function recomputeStaleJourneys(now: number = Date.now()): Promise<
 	for (const { patientId } of stale) {
 		await db().transaction((tx) => recomputeJourney(tx, patientId, now));
 	}
+	if (stale.length > 0) clearPublicCache();
 	return stale.length;
 }
 

@@ -1,4 +1,5 @@
-// CSV for the Ledger's exports, and the answer the gift endpoints give to a bad query string.
+// CSV for every export (the Ledger's and the Tracking desk's), and the answer the gift endpoints
+// give to a bad query string.
 // Cells follow RFC 4180; text that a spreadsheet would run as a formula is neutralised as the
 // OWASP "CSV Injection" guidance says, because donor names and references are typed by the public
 // or by staff and accounting opens these files in spreadsheets.
@@ -11,24 +12,44 @@ const FORMULA_START = /^[=+\-@\t\r]/;
 // well: spreadsheets set to a semicolon separator would otherwise start a new cell inside it.
 const NEEDS_QUOTES = /[",;\r\n]/;
 
-/**
- * One CSV cell. Text gets a leading apostrophe when it would start a formula, then quotes when it
- * needs them (inner quotes doubled). Numbers are our own integers (cents) and are written as they
- * are; null and undefined are empty.
- */
-export function csvCell(value: string | number | null | undefined): string {
+export type CsvValue = string | number | null | undefined;
+
+export interface CsvOptions {
+	/** Numbers may have fractions; without it a number must be a whole one, as cents are. */
+	fractions?: boolean;
+}
+
+function cell(value: CsvValue, fractions: boolean): string {
 	if (value === null || value === undefined) return '';
 	if (typeof value === 'number') {
-		if (!Number.isSafeInteger(value)) throw new RangeError(`Not a whole number: ${value}`);
+		if (fractions ? !Number.isFinite(value) : !Number.isSafeInteger(value)) {
+			throw new RangeError(`Not a ${fractions ? 'finite' : 'whole'} number: ${value}`);
+		}
 		return String(value);
 	}
 	const text = FORMULA_START.test(value) ? `'${value}` : value;
 	return NEEDS_QUOTES.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
 }
 
-/** One record, ended by CRLF as RFC 4180 §2.1 has it. */
-export function csvRow(values: readonly (string | number | null | undefined)[]): string {
-	return values.map(csvCell).join(',') + '\r\n';
+/**
+ * One CSV cell. Text gets a leading apostrophe when it would start a formula, then quotes when it
+ * needs them (inner quotes doubled). Numbers are our own (cents) and are written as they are, a
+ * minus sign included: a spreadsheet reads "-1250" as the number it is, and only text typed by
+ * people can carry a formula. A number must be a whole one. Null and undefined are empty.
+ */
+export function csvCell(value: CsvValue): string {
+	return cell(value, false);
+}
+
+/**
+ * One record, ended by CRLF as RFC 4180 §2.1 has it; every CSV export of the app writes these.
+ * With `fractions`, numbers may have fractions (coordinates, metres: the tracking exports).
+ */
+export function csvRow(
+	values: readonly CsvValue[],
+	{ fractions = false }: CsvOptions = {}
+): string {
+	return values.map((value) => cell(value, fractions)).join(',') + '\r\n';
 }
 
 /** The gift export's columns, in order. Their names are a contract with accounting: keep them. */

@@ -3,6 +3,7 @@ import { createHash, randomUUID } from 'node:crypto';
 import sharp, { type Metadata } from 'sharp';
 import { MAX_ALT_LENGTH, MAX_UPLOAD_BYTES, mediaWidthsFor, type MediaFormat } from '$lib/media';
 import { db, type Executor } from '../db';
+import { cleanFileName } from '../file-names';
 import { media, mediaVariants } from '../db/schema';
 import { findStructureProblem, type ImageKind } from './inspect';
 
@@ -200,13 +201,5 @@ function describeRefusedType(
 }
 
 function cleanName(name: string | undefined): string | null {
-	if (!name) return null;
-	const base = name
-		.split(/[\\/]/)
-		.pop()!
-		// eslint-disable-next-line no-control-regex
-		.replace(/[\u0000-\u001f\u007f]/g, '')
-		.trim()
-		.slice(0, 200);
-	return base || null;
+	return (name && cleanFileName(name)) || null;
 }

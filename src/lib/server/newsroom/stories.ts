@@ -4,6 +4,7 @@ import { slugify, uniqueSlug } from '../../slug';
 import { audit } from '../audit';
 import { db, type Executor } from '../db';
 import {
+	media,
 	organisationSettings,
 	patientEvents,
 	patients,
@@ -53,8 +54,17 @@ async function linkPatients(tx: Executor, storyId: string, patientIds: string[])
 	await tx.insert(storyPatients).values(known.map((p) => ({ storyId, patientId: p.id })));
 }
 
+/** The hero photo must be in the photo library; an unknown id would fail the foreign key (a 500). */
+async function checkHeroMedia(tx: Executor, mediaId: string | null): Promise<void> {
+	if (mediaId === null) return;
+	const [found] = await tx.select({ id: media.id }).from(media).where(eq(media.id, mediaId));
+	if (!found)
+		throw new StoryRefused('The chosen photo is not in the photo library; upload it again.');
+}
+
 export async function createStory(input: StoryInput, actor: StoryActor): Promise<string> {
 	return db().transaction(async (tx) => {
+		await checkHeroMedia(tx, input.heroMediaId);
 		const id = randomUUID();
 		await tx.insert(stories).values({
 			id,
@@ -84,6 +94,7 @@ export async function updateStory(id: string, input: StoryInput, actor: StoryAct
 					: 'Archived stories cannot be edited: publish it again first.'
 			);
 		}
+		await checkHeroMedia(tx, input.heroMediaId);
 		await tx
 			.update(stories)
 			.set({

@@ -1,10 +1,11 @@
 import { error } from '@sveltejs/kit';
 import { appOrigin } from '$lib/server/config';
+import { publicRead } from '$lib/server/public-cache';
 import { getPublishedStory } from '$lib/server/stories';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ params }) => {
-	const story = await getPublishedStory(params.slug);
+	const story = await publicRead(`story:${params.slug}`, () => getPublishedStory(params.slug));
 	if (!story) error(404, 'Not found.');
 	const origin = appOrigin();
 	return {

@@ -12,8 +12,21 @@ const DELIMITER_NAMES: Readonly<Record<CsvDelimiter, string>> = {
 	';': 'semicolon',
 	'\t': 'tab'
 };
-/** Same as csv-parse's own record size guard. */
+/**
+ * The longest line read, header or record (csv-parse's `max_record_size` counts the characters of
+ * a record's cells). A position file has short lines; without a cap one 200 MB line was read
+ * whole into memory.
+ */
 const MAX_LINE_BYTES = 128_000;
+/**
+ * Most columns a position file may have, header or record. Real files from tag makers have a few
+ * dozen; `max_record_size` does not see a line of a million empty cells (",,,,…").
+ */
+export const MAX_COLUMNS = 200;
+
+const count = (n: number) => n.toLocaleString('en-US');
+const tooManyColumns = (where: string, n: number, more = false) =>
+	`${where} has ${more ? 'more than ' : ''}${count(n)} columns; a position file has at most ${MAX_COLUMNS}.`;
 /** Records handed on per await; bounds the batch when the parser holds many chunks' worth. */
 const BATCH_RECORDS = 4096;
 
@@ -80,8 +93,13 @@ async function readHead(
 			if (match && match[1].trim() !== '') return { head, firstLine: match[1] };
 		}
 		if (size > MAX_LINE_BYTES) {
+			const start = Buffer.concat(head).toString('utf8');
+			const delimiter = sniffDelimiter(start);
+			const columns = delimiter === null ? 0 : start.split(delimiter).length;
 			throw new ImportFileError(
-				'The first line is longer than 128 000 bytes; this does not look like a CSV file with a header row.'
+				columns > MAX_COLUMNS
+					? tooManyColumns('The header row', columns - 1, true)
+					: 'The first line is longer than 128 000 bytes; this does not look like a CSV file with a header row.'
 			);
 		}
 	}
@@ -147,7 +165,8 @@ async function openCsv(source: Readable, delimiterOverride?: CsvDelimiter): Prom
 		bom: true,
 		trim: true,
 		relax_quotes: true,
-		relax_column_count: true
+		relax_column_count: true,
+		max_record_size: MAX_LINE_BYTES
 	});
 	// Errors reach the consumer through the parser; the callback is only here to satisfy pipeline.
 	pipeline(replay, parser, () => {});
@@ -173,6 +192,7 @@ async function openCsv(source: Readable, delimiterOverride?: CsvDelimiter): Prom
 			resume();
 		});
 		let lastLine = 0;
+		let headerRead = false;
 		let limit = 1;
 		try {
 			for (;;) {
@@ -185,6 +205,10 @@ async function openCsv(source: Readable, delimiterOverride?: CsvDelimiter): Prom
 				) {
 					const line = lastLine + 1;
 					lastLine = line;
+					if (fields.length > MAX_COLUMNS) {
+						const where = headerRead ? `Line ${count(line)}` : 'The header row';
+						throw new ImportFileError(tooManyColumns(where, fields.length));
+					}
 					let blank = true;
 					for (const field of fields) {
 						// a quoted field can span lines
@@ -193,7 +217,10 @@ async function openCsv(source: Readable, delimiterOverride?: CsvDelimiter): Prom
 						}
 						if (blank && field !== '' && field.trim() !== '') blank = false;
 					}
-					if (!blank) batch.push({ fields, line });
+					if (!blank) {
+						batch.push({ fields, line });
+						headerRead = true;
+					}
 				}
 				if (batch.length > 0) {
 					yield batch;
@@ -203,6 +230,11 @@ async function openCsv(source: Readable, delimiterOverride?: CsvDelimiter): Prom
 				else await new Promise<void>((resolve) => (wake = resolve));
 			}
 		} catch (error) {
+			if (error instanceof CsvError && error.code === 'CSV_MAX_RECORD_SIZE') {
+				throw new ImportFileError(
+					`Line ${count((error as CsvError & { lines?: number }).lines ?? lastLine + 1)} is longer than ${count(MAX_LINE_BYTES)} characters; a position file has short lines (a time, a latitude, a longitude and a few values more).`
+				);
+			}
 			if (error instanceof CsvError) {
 				throw new ImportFileError(`This is not a readable CSV file: ${error.message}`);
 			}

@@ -20,6 +20,12 @@ import { checkRow, type FieldValue } from './values';
 
 /** Longer element texts are cut; no value we read is anywhere near this long. */
 const MAX_TEXT = 1_000;
+/**
+ * Deepest element nesting read. A GPX point sits a few levels down; saxes' namespace handling
+ * takes time in proportion to the depth at every tag, so 100,000 nested elements (a 1 MB file)
+ * kept the server busy for minutes before this limit.
+ */
+export const MAX_DEPTH = 100;
 
 const OPTIONAL_FIELDS = ['semiMajorM', 'semiMinorM', 'orientationDeg', 'errorRadiusM'] as const;
 
@@ -94,7 +100,16 @@ export async function* parseGpx(
 			);
 		}
 	});
+	let depth = 0;
+	sax.on('opentagstart', () => {
+		if (++depth > MAX_DEPTH) {
+			throw new ImportFileError(
+				`Elements are nested more than ${MAX_DEPTH} deep in this file; in GPX a point is a few levels down.`
+			);
+		}
+	});
 	sax.on('opentag', (tag: SaxesTagNS) => {
+		if (tag.isSelfClosing) depth--;
 		if (!rootSeen) {
 			rootSeen = true;
 			if (tag.local !== 'gpx') {
@@ -135,6 +150,7 @@ export async function* parseGpx(
 	sax.on('text', onText);
 	sax.on('cdata', onText);
 	sax.on('closetag', (tag: SaxesTagNS) => {
+		if (!tag.isSelfClosing) depth--;
 		if (point === null) return;
 		if (point.depth === 0) {
 			ready.push(checkRow(pointInput(point), rowRules));

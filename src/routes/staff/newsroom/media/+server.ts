@@ -43,7 +43,11 @@ export const POST: RequestHandler = async (event) => {
 	let form: FormData;
 	try {
 		form = await event.request.formData();
-	} catch {
+	} catch (error) {
+		// The server stops reading a body past its BODY_SIZE_LIMIT (a chunked upload has no
+		// Content-Length to refuse up front): that is a file too large, not a malformed form.
+		if ((error as { status?: unknown } | null)?.status === 413)
+			return refuse(413, TOO_LARGE, 'file');
 		return refuse(400, 'Send the photo as a multipart form with a file and its alt text.');
 	}
 	const parsed = parseForm(uploadForm, form);

@@ -8,12 +8,15 @@ import { db } from '$lib/server/db';
 import { LOCATION_CLASS_VALUES } from '$lib/server/db/schema';
 import { deskPatient } from '$lib/server/journeys/desk';
 import { importPositions } from '$lib/server/journeys/import';
+import { cleanFileName } from '$lib/server/file-names';
 import {
 	ImportFileError,
 	parsePositions,
 	validateMapping,
-	type CsvMapping
+	type CsvMapping,
+	type MappingField
 } from '$lib/server/tracking/import';
+import { MAPPING_FIELDS } from '$lib/server/tracking/import/mapping';
 import { STAFF_AREAS } from '$lib/staff-areas';
 import type { RequestHandler } from './$types';
 
@@ -27,11 +30,12 @@ const query = z.object({
 	policy: z.enum(['refuse_file', 'skip_bad_rows'], {
 		error: 'Choose what to do with bad rows.'
 	}),
+	// Only a label for staff: kept as its last path part, without control characters.
 	fileName: z
 		.string()
-		.trim()
-		.min(1, 'The file has no name.')
-		.max(255, 'The file name is too long.'),
+		.max(255, 'The file name is too long.')
+		.transform(cleanFileName)
+		.pipe(z.string().min(1, 'The file has no name.')),
 	transmitterId: z
 		.string()
 		.trim()
@@ -39,11 +43,67 @@ const query = z.object({
 		.max(64, 'Keep the transmitter ID under 64 characters.')
 		.regex(/^[A-Za-z0-9._:-]+$/, 'Use letters, digits, dots, dashes, colons or underscores.'),
 	defaultClass: z.enum(LOCATION_CLASS_VALUES).optional(),
-	mapping: z.string().optional()
+	mapping: z
+		.string()
+		.max(64 * 1024, 'The column mapping is too long.')
+		.optional()
 });
+
+/** The column chosen for each field, as the mapping step sends it: names (strings) only. */
+const mappingJson = z.partialRecord(
+	z.enum(MAPPING_FIELDS as [MappingField, ...MappingField[]]),
+	z.string().max(1000, 'A column name is at most 1,000 characters.')
+);
 
 function refuse(status: number, error: string, field?: string) {
 	return json({ error, ...(field ? { field } : {}) }, { status });
+}
+
+const TOO_LARGE = `Files can be at most ${MAX_IMPORT_BYTES / (1024 * 1024)} MB.`;
+
+/** Why the upload could not be read to its end: too large, or cut off. */
+class BodyUnreadable extends Error {
+	constructor(
+		readonly status: 400 | 413,
+		message: string
+	) {
+		super(message);
+	}
+}
+
+/**
+ * The request body, stopped past MAX_IMPORT_BYTES whether or not a Content-Length was declared
+ * (a chunked upload has none). A body the server stops reading (its own size limit) or the
+ * client cuts off becomes a `BodyUnreadable`, answered with a 4xx rather than a 500.
+ */
+function limitedBody(body: ReadableStream<Uint8Array>): ReadableStream<Uint8Array> {
+	const reader = body.getReader();
+	let total = 0;
+	return new ReadableStream<Uint8Array>({
+		async pull(controller) {
+			let next: ReadableStreamReadResult<Uint8Array>;
+			try {
+				next = await reader.read();
+			} catch (error) {
+				const tooLarge = (error as { status?: unknown } | null)?.status === 413;
+				controller.error(
+					tooLarge
+						? new BodyUnreadable(413, TOO_LARGE)
+						: new BodyUnreadable(400, 'The upload was cut off; send the file again.')
+				);
+				return;
+			}
+			if (next.done) return controller.close();
+			total += next.value.byteLength;
+			if (total > MAX_IMPORT_BYTES) {
+				controller.error(new BodyUnreadable(413, TOO_LARGE));
+				await reader.cancel().catch(() => {});
+				return;
+			}
+			controller.enqueue(next.value);
+		},
+		cancel: (reason) => reader.cancel(reason)
+	});
 }
 
 /**
@@ -59,9 +119,7 @@ export const POST: RequestHandler = async (event) => {
 	const patient = await deskPatient(event.params.slug);
 	if (!patient) return refuse(404, 'No patient here.');
 	const declared = Number(event.request.headers.get('content-length') ?? NaN);
-	if (declared > MAX_IMPORT_BYTES) {
-		return refuse(413, `Files can be at most ${MAX_IMPORT_BYTES / (1024 * 1024)} MB.`, 'file');
-	}
+	if (declared > MAX_IMPORT_BYTES) return refuse(413, TOO_LARGE, 'file');
 	const parsed = query.safeParse(Object.fromEntries(event.url.searchParams));
 	if (!parsed.success) {
 		const issue = parsed.error.issues[0];
@@ -72,7 +130,7 @@ export const POST: RequestHandler = async (event) => {
 	if (format === 'csv') {
 		let wanted: Partial<CsvMapping>;
 		try {
-			wanted = JSON.parse(parsed.data.mapping ?? '{}');
+			wanted = mappingJson.parse(JSON.parse(parsed.data.mapping ?? '{}'));
 		} catch {
 			return refuse(
 				400,
@@ -89,7 +147,9 @@ export const POST: RequestHandler = async (event) => {
 	}
 	if (!event.request.body) return refuse(400, 'Choose a file to upload.', 'file');
 
-	const source = Readable.fromWeb(event.request.body as unknown as NodeReadableStream<Uint8Array>);
+	const source = Readable.fromWeb(
+		limitedBody(event.request.body) as unknown as NodeReadableStream<Uint8Array>
+	);
 	try {
 		const report = await importPositions(
 			parsePositions(source, { format, mapping, defaultClass, now: Date.now() }),
@@ -106,6 +166,7 @@ export const POST: RequestHandler = async (event) => {
 		return json(report, { status: report.stored ? 200 : 422 });
 	} catch (error) {
 		if (error instanceof ImportFileError) return refuse(400, error.message, 'file');
+		if (error instanceof BodyUnreadable) return refuse(error.status, error.message, 'file');
 		throw error;
 	} finally {
 		source.destroy();
