@@ -34,7 +34,7 @@ interface Visit {
 /** Pages not visited, each with why. Keep this short: a page here is a page nobody checks. */
 const SKIPPED: Record<string, string> = {
 	'/preferences/[token]':
-		'its link only arrives in a supporter update, queued by the fan-out loop every 30 s after a story has been written and approved by two educators; its form (MailPreferencesForm) is checked on /account, and the page’s bad-link state is checked below'
+		'its link only arrives in a supporter update (field note, homecoming or waypoint update), queued by the fan-out loop on its 30 s cycle after a story is approved or a release completed, which would change the demo patients the other tests use; its form (MailPreferencesForm) is checked on /account, and the page’s bad-link state is checked below'
 };
 
 /** What the visits below need from the running demo: filled in by the first test. */
