@@ -109,9 +109,14 @@ export async function signIn(page: Page, email: string): Promise<void> {
 export async function linkFromCaughtMail(admin: Page, to: string, path: RegExp): Promise<string> {
 	for (let attempt = 0; attempt < 40; attempt++) {
 		await admin.goto('/staff/mail');
-		const row = admin.getByRole('row').filter({ hasText: to }).first();
-		if (await row.count()) {
-			await row.getByRole('link').click();
+		// Newest first; other tests also mail this address, so look through its recent messages.
+		const hrefs = await admin
+			.getByRole('row')
+			.filter({ hasText: to })
+			.getByRole('link')
+			.evaluateAll((links) => links.slice(0, 10).map((a) => a.getAttribute('href') ?? ''));
+		for (const href of hrefs.filter(Boolean)) {
+			await admin.goto(href);
 			const body = (await admin.content()).replaceAll('&amp;', '&');
 			const found = body.match(new RegExp(`https?://[^\\s"'<>]+${path.source}[^\\s"'<>]*`));
 			if (found) {
