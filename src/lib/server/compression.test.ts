@@ -81,6 +81,16 @@ describe('compressResponses', () => {
 		}
 	});
 
+	it('leaves everything to a proxy with COMPRESS_RESPONSES=off', async () => {
+		process.env.COMPRESS_RESPONSES = 'off';
+		try {
+			const response = page();
+			expect(await answer(response)).toBe(response);
+		} finally {
+			delete process.env.COMPRESS_RESPONSES;
+		}
+	});
+
 	it('adds Accept-Encoding to an existing Vary once', async () => {
 		const res = await answer(page(HTML, { vary: 'Cookie' }));
 		expect(res.headers.get('vary')).toBe('Cookie, Accept-Encoding');
