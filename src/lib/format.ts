@@ -3,7 +3,7 @@
 // and four times that on Lighthouse's phone, all of it during hydration of public pages. These
 // give the same text (format.test.ts checks them against Intl) for the formats we use.
 
-const MONTHS = [
+export const MONTHS = [
 	'January',
 	'February',
 	'March',

@@ -9,23 +9,9 @@ import {
 	type CloseFigures
 } from '$lib/server/ledger/close';
 import { formatCents } from '$lib/server/ledger/receipts/us';
+import { MONTHS } from '$lib/format';
 import { STAFF_AREAS } from '$lib/staff-areas';
 import type { PageServerLoad } from './$types';
-
-const MONTHS = [
-	'January',
-	'February',
-	'March',
-	'April',
-	'May',
-	'June',
-	'July',
-	'August',
-	'September',
-	'October',
-	'November',
-	'December'
-];
 
 /** The monthly close of `?year=` (the current year when absent). */
 export const load = (async (event) => {
