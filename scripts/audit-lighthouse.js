@@ -140,7 +140,7 @@ const dataDir = mkdtempSync(join(tmpdir(), 'tideward-lighthouse-'));
 const port = await freePort();
 const origin = `http://127.0.0.1:${port}`;
 let log = '';
-const server = spawn(process.execPath, ['build'], {
+const server = spawn(process.execPath, ['server.js'], {
 	env: {
 		...process.env,
 		PORT: String(port),

@@ -54,7 +54,7 @@ if (!args.includes('--no-build') || !existsSync('build/index.js')) {
 const dataDir = mkdtempSync(join(tmpdir(), 'tideward-bench-http-'));
 const port = await freePort();
 const base = `http://127.0.0.1:${port}`;
-const server = spawn(process.execPath, ['build'], {
+const server = spawn(process.execPath, ['server.js'], {
 	env: {
 		...process.env,
 		NODE_ENV: 'production',

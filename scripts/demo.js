@@ -19,7 +19,7 @@ if (reset) {
 	rmSync(dataDir, { recursive: true, force: true });
 }
 
-const server = spawn(process.execPath, ['build'], {
+const server = spawn(process.execPath, ['server.js'], {
 	stdio: 'inherit',
 	env: {
 		...process.env,

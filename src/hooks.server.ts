@@ -6,6 +6,7 @@ import { ensureFirstAdmin } from '$lib/server/auth/bootstrap';
 import { readSession } from '$lib/server/auth/session';
 import { closeDatabase, openDatabase } from '$lib/server/db';
 import { DataDirLockedError } from '$lib/server/db/lock';
+import { checkEnvironment } from '$lib/server/env';
 import { startMail, stopMail } from '$lib/server/mail/service';
 import { fakeMode, startFakeStripe, stopFakeStripe } from '$lib/server/payments/fake';
 import { startJourneyScheduler, stopJourneyScheduler } from '$lib/server/journeys/scheduler';
@@ -14,13 +15,19 @@ import { deliverDueGiftNotices } from '$lib/server/adoptions/gifts';
 import { startLoop, stopLoop } from '$lib/server/loop';
 import { fanOutPending } from '$lib/server/updates/fanout';
 import { sameOriginForms } from '$lib/server/csrf';
-import { cacheAnonymousPages, forgetPublicReadsAfterWrites } from '$lib/server/public-cache';
+import { forgetPublicReadsAfterWrites } from '$lib/server/public-cache';
+import { cachePublicAnswers } from '$lib/server/public-answers';
 import { securityHeaders } from '$lib/server/security-headers';
 import { compressResponses } from '$lib/server/compression';
 import { refuseUnreadableRequests } from '$lib/server/request-guard';
 
 export const init: ServerInit = async () => {
 	if (building) return;
+	const env = checkEnvironment();
+	if (!env.ok) {
+		console.error(env.message);
+		process.exit(1);
+	}
 	try {
 		await openDatabase();
 	} catch (error) {
@@ -110,7 +117,7 @@ export const handle = sequence(
 	sameOriginForms,
 	requestId,
 	forgetPublicReadsAfterWrites,
-	cacheAnonymousPages,
+	cachePublicAnswers,
 	session,
 	preloadFonts
 );

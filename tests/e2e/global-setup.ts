@@ -36,7 +36,7 @@ export default async function setup(project: TestProject) {
 	const port = await freePort();
 	const baseURL = `http://localhost:${port}`;
 	let log = '';
-	const server = spawn(process.execPath, ['build'], {
+	const server = spawn(process.execPath, ['server.js'], {
 		env: {
 			...process.env,
 			PORT: String(port),

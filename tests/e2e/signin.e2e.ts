@@ -67,7 +67,7 @@ describe('sign-in', () => {
 	});
 
 	it('a second server on the same data folder refuses to start', async () => {
-		const child = spawn(process.execPath, ['build'], {
+		const child = spawn(process.execPath, ['server.js'], {
 			env: { ...process.env, PORT: '0', DATA_DIR: inject('dataDir'), TIDEWARD_DEMO: '' },
 			stdio: ['ignore', 'pipe', 'pipe']
 		});

@@ -27,29 +27,36 @@ export function acceptsGzip(acceptEncoding: string | null): boolean {
 	return (gzip ?? any ?? 0) > 0;
 }
 
+/** Off behind a proxy that compresses (`COMPRESS_RESPONSES=off`). */
+export function compressionOn(): boolean {
+	return process.env.COMPRESS_RESPONSES !== 'off';
+}
+
 /**
- * Whether to compress this answer: a body of known length (streamed answers, whose length is
- * unknown, would wait for the compressor), text, not already encoded, not marked no-transform.
+ * Whether an answer is worth compressing: a body of known length (streamed answers, whose length
+ * is unknown, would wait for the compressor), text, not already encoded, not marked no-transform.
  */
-function worthCompressing(request: Request, response: Response): boolean {
-	if (request.method === 'HEAD' || !response.body) return false;
-	if (response.status < 200 || response.status === 204 || response.status === 206) return false;
-	if (response.headers.has('content-encoding')) return false;
-	if (/\bno-transform\b/i.test(response.headers.get('cache-control') ?? '')) return false;
-	const length = Number(response.headers.get('content-length') ?? NaN);
+export function compressible(status: number, headers: Headers, length: number): boolean {
+	if (status < 200 || status === 204 || status === 206) return false;
+	if (headers.has('content-encoding')) return false;
+	if (/\bno-transform\b/i.test(headers.get('cache-control') ?? '')) return false;
 	if (!(length >= MIN_BYTES)) return false;
-	return COMPRESSIBLE.test(response.headers.get('content-type') ?? '');
+	return COMPRESSIBLE.test(headers.get('content-type') ?? '');
+}
+
+/** A Vary value that names Accept-Encoding (kept as it is when it already does, or is `*`). */
+export function withAcceptEncoding(vary: string | null): string {
+	if (vary && /(^|,)\s*(accept-encoding|\*)\s*(,|$)/i.test(vary)) return vary;
+	return vary ? `${vary}, Accept-Encoding` : 'Accept-Encoding';
 }
 
 export const compressResponses: Handle = async ({ event, resolve }) => {
 	const response = await resolve(event);
-	if (process.env.COMPRESS_RESPONSES === 'off') return response;
-	if (!worthCompressing(event.request, response)) return response;
+	if (!compressionOn() || event.request.method === 'HEAD' || !response.body) return response;
+	const length = Number(response.headers.get('content-length') ?? NaN);
+	if (!compressible(response.status, response.headers, length)) return response;
 	const headers = new Headers(response.headers);
-	const vary = headers.get('vary');
-	if (!vary || !/(^|,)\s*(accept-encoding|\*)\s*(,|$)/i.test(vary)) {
-		headers.set('vary', vary ? `${vary}, Accept-Encoding` : 'Accept-Encoding');
-	}
+	headers.set('vary', withAcceptEncoding(headers.get('vary')));
 	if (!acceptsGzip(event.request.headers.get('accept-encoding'))) {
 		return new Response(response.body, {
 			status: response.status,

@@ -14,7 +14,11 @@ export function strongEtag(body: string | Uint8Array): string {
  * and it is compared weakly, so `W/"x"` matches `"x"`.
  */
 export function ifNoneMatchMatches(request: Request, etag: string): boolean {
-	const header = request.headers.get('if-none-match');
+	return etagListMatches(request.headers.get('if-none-match'), etag);
+}
+
+/** Whether an If-None-Match value (a list of entity tags, or `*`) names `etag`, compared weakly. */
+export function etagListMatches(header: string | null, etag: string): boolean {
 	if (!header) return false;
 	if (header.trim() === '*') return true;
 	const opaque = (tag: string) => tag.trim().replace(/^W\//, '');
