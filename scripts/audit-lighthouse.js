@@ -1,7 +1,7 @@
 #!/usr/bin/env node
 // `npm run audit:lighthouse [-- --no-build] [-- --runs 3]`: Lighthouse (mobile preset, simulated
 // throttling) on the public pages of the demo. Builds when build/ is missing (unless --no-build),
-// starts `node build` on a free loopback port with a throwaway data folder and the demo scenario,
+// starts `node server.js` on a free loopback port with a throwaway data folder and the demo scenario,
 // and runs each page `--runs` times (default 3: the performance score on this shared machine
 // moves by a point or two between runs, so the run with the median performance score is kept,
 // as Lighthouse's own docs advise). Writes test-artifacts/lighthouse/{scores.json,README.md} and

@@ -1,8 +1,8 @@
 #!/usr/bin/env node
-// `npm run bench:http [-- --no-build] [-- --seconds 10]`: the production server (`node build`) on
-// a throwaway copy of the demo data, measured with autocannon on loopback at 32 connections, one
-// target after another in one run: a static asset, a patient page, the patients API and a
-// journey API. The APIs are asked the way a returning browser asks, with the ETag it holds
+// `npm run bench:http [-- --no-build] [-- --seconds 10]`: the production server
+// (`node server.js`) on a throwaway copy of the demo data, measured with autocannon on loopback at
+// 32 connections, one target after another in one run: a static asset, a patient page (plain and
+// gzip), the patients API and a journey API. The APIs are asked the way a returning browser asks, with the ETag it holds
 // (If-None-Match), so they answer 304. Each page's requests/s is reported as a ratio of the
 // static asset's, measured in the same run (these shared 2-core machines are noisy; compare
 // ratios, not absolute figures across runs). Traffic goes to 127.0.0.1 only, bounded in time.
@@ -84,6 +84,13 @@ try {
 	const targets = [
 		{ name: 'static asset', path: asset, expect: 200 },
 		{ name: 'patient page', path: `/patients/${PATIENT}`, expect: 200 },
+		{
+			// As browsers ask: gzip, each copy with its own nonce.
+			name: 'patient page, gzip',
+			path: `/patients/${PATIENT}`,
+			headers: { 'accept-encoding': 'gzip' },
+			expect: 200
+		},
 		{
 			// Each request a new address, so none is answered from the page cache: the cost of a
 			// render (the public reads themselves still come from their short-lived cache).
