@@ -44,6 +44,6 @@ export default defineConfig({
 		pool: 'forks',
 		// Handlers are called directly after direct inserts: no cached public reads in between
 		// (the cache has its own tests in src/lib/server/public-cache.test.ts).
-		env: { PUBLIC_CACHE_MS: '0' }
+		env: { PUBLIC_CACHE_MS: '0', LOG_LEVEL: 'warn' }
 	}
 });

@@ -28,7 +28,9 @@ const server = spawn(process.execPath, ['server.js'], {
 		ORIGIN: process.env.ORIGIN ?? `http://localhost:${port}`,
 		DATA_DIR: dataDir,
 		TIDEWARD_DEMO: '1',
-		BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '64M'
+		BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '64M',
+		// The banner and warnings, not a JSON line per request, in the demo's terminal.
+		LOG_LEVEL: process.env.LOG_LEVEL ?? 'warn'
 	}
 });
 for (const signal of /** @type {const} */ (['SIGINT', 'SIGTERM'])) {

@@ -1,9 +1,11 @@
-import { afterAll, beforeAll, beforeEach, describe, expect, it, vi } from 'vitest';
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { caughtMail } from '$lib/server/db/schema';
 import { startCatcher, type Catcher } from '$lib/server/mail/catcher';
 import { createMailTransport, type MailTransport } from '$lib/server/mail/transport';
 import { isTransient } from '$lib/server/mail/worker';
 import { useTestDatabase } from '../setup/test-db';
+import { createLogger, setLogger } from '$lib/server/log';
+import { Writable } from 'node:stream';
 
 const db = useTestDatabase();
 
@@ -80,7 +82,17 @@ describe('mail catcher', () => {
 	});
 
 	it('answers 451 when it cannot store, so the sender keeps the message', async () => {
-		const logged = vi.spyOn(console, 'error').mockImplementation(() => {});
+		const lines: { msg?: string; err?: { message?: string } }[] = [];
+		setLogger(
+			createLogger(
+				new Writable({
+					write(chunk, _encoding, done) {
+						lines.push(JSON.parse(String(chunk)));
+						done();
+					}
+				})
+			)
+		);
 		const broken = await startCatcher({
 			database: () => {
 				throw new Error('database is down');
@@ -94,14 +106,16 @@ describe('mail catcher', () => {
 			);
 			expect(error).toMatchObject({ responseCode: 451 });
 			expect(isTransient(error)).toBe(true);
-			expect(logged).toHaveBeenCalledWith(
-				'mail catcher: could not store a message',
-				expect.any(Error)
+			expect(lines).toContainEqual(
+				expect.objectContaining({
+					msg: 'mail catcher could not store a message',
+					err: expect.objectContaining({ message: 'database is down' })
+				})
 			);
 		} finally {
 			to.close();
 			await broken.close();
-			logged.mockRestore();
+			setLogger(undefined);
 		}
 		expect(await db().select().from(caughtMail)).toEqual([]);
 	});

@@ -1,3 +1,5 @@
+import { log, taskId, withRequestId } from './log';
+
 // Background work that runs without anyone present (publishing stories, moving the public cutoff,
 // delivering gift notices). Every instance runs its own loop; the tasks themselves make each
 // change once through conditional updates and row locks, so several instances can run at once.
@@ -24,8 +26,9 @@ export function startLoop(
 	if (loops().has(name) || process.env[envName] === 'off') return;
 	const tick = () => {
 		if (loop.running) return;
-		loop.running = task()
-			.catch((error) => console.error(`The ${name} task failed:`, error))
+		// Each run's log lines share an id, as a request's do.
+		loop.running = withRequestId(taskId(name.replace(/\W+/g, '-')), task)
+			.catch((error) => log().error({ err: error, task: name }, 'task failed'))
 			.finally(() => (loop.running = null));
 	};
 	const loop: Loop = { timer: setInterval(tick, intervalMs), running: null };

@@ -20,6 +20,7 @@ import { changePassword } from '$lib/server/auth/accounts';
 import { requireRoles } from '$lib/server/auth/roles';
 import { newPassword, parseForm, fieldError } from '$lib/server/forms';
 import type { Actions, PageServerLoad } from './$types';
+import { log } from '$lib/server/log';
 
 const passwordForm = z
 	.object({
@@ -90,7 +91,7 @@ export const actions: Actions = {
 				return_url: `${appOrigin()}/account`
 			}));
 		} catch (problem) {
-			console.error('Opening the billing page failed:', problem);
+			log().error({ err: problem }, 'opening the billing page failed');
 			return fail(503, {
 				errors: fieldError('billing', 'The payment service could not be reached; try again soon.')
 			});
@@ -123,7 +124,7 @@ export const actions: Actions = {
 					changing: parsed.data.adoptionId
 				});
 			}
-			console.error('Changing a monthly adoption failed:', problem);
+			log().error({ err: problem }, 'changing a monthly adoption failed');
 			return fail(503, {
 				errors: fieldError('change', 'The payment service could not be reached; nothing changed.'),
 				values: parsed.values,

@@ -6,6 +6,7 @@ import { appOrigin } from '../config';
 import { db } from '../db';
 import { adoptionLevels, adoptions, patients, type AdoptionKind } from '../db/schema';
 import { stripe } from '../payments/client';
+import { log } from '$lib/server/log';
 
 export interface AdoptionRequest {
 	attemptId: string;
@@ -156,7 +157,7 @@ export async function startCheckout(
 			{ idempotencyKey: `adoption-checkout-${adoption.id}` }
 		);
 	} catch (error) {
-		console.error('Creating a checkout session failed:', error);
+		log().error({ err: error }, 'creating a checkout session failed');
 		throw new CheckoutUnavailable(
 			'The payment service could not be reached; nothing was charged. Please try again in a moment.'
 		);

@@ -4,6 +4,7 @@ import { buffer } from 'node:stream/consumers';
 import { SMTPServer, type SMTPServerSession } from 'smtp-server';
 import { db as openDb, type Database, type Executor } from '../db';
 import { caughtMail } from '../db/schema';
+import { log } from '$lib/server/log';
 
 /** Headers kept beside the parsed parts, for staff to check what a recipient would see. */
 export const CAUGHT_HEADERS = [
@@ -73,7 +74,7 @@ export async function storeCaughtMail(
 		parsed = await simpleParser(raw, { skipTextToHtml: true });
 	} catch (error) {
 		// Keep what cannot be parsed: the raw source is still worth reading.
-		console.error('mail catcher: could not parse a message', error);
+		log().error({ err: error }, 'mail catcher could not parse a message');
 	}
 	const rows = await executor
 		.insert(caughtMail)
@@ -122,13 +123,13 @@ export async function startCatcher(options: CatcherOptions = {}): Promise<Catche
 				.then(
 					() => callback(),
 					(error: unknown) => {
-						console.error('mail catcher: could not store a message', error);
+						log().error({ err: error }, 'mail catcher could not store a message');
 						callback(temporaryFailure());
 					}
 				);
 		}
 	});
-	server.on('error', (error) => console.error('mail catcher:', error));
+	server.on('error', (error) => log().error({ err: error }, 'mail catcher failed'));
 
 	await new Promise<void>((resolve, reject) => {
 		server.server.once('error', reject);

@@ -4,6 +4,7 @@ import { mailFrom } from '../config';
 import { db as openDb, type Database } from '../db';
 import { outbox } from '../db/schema';
 import { mailTransport, type MailTransport } from './transport';
+import { log } from '$lib/server/log';
 
 export interface OutboxRunOptions {
 	database?: Database;
@@ -209,7 +210,7 @@ function tick(state: WorkerState): void {
 		.then((result) => {
 			full = result.claimed >= state.batchSize;
 		})
-		.catch((error: unknown) => console.error('outbox worker:', error))
+		.catch((error: unknown) => log().error({ err: error }, 'outbox worker failed'))
 		.finally(() => {
 			state.running = undefined;
 			// A full batch or a kick during the run means more may be due right now.

@@ -18,6 +18,7 @@ import {
 } from './form';
 import type { FakeBalanceTransaction, FakeInvoice, FakeList } from './objects';
 import { randomToken, type ApiObject, type FakeStore } from './state';
+import { log } from '$lib/server/log';
 
 /** The API key the app uses in fake mode (`new Stripe(FAKE_SECRET_KEY)`). */
 export const FAKE_SECRET_KEY = 'sk_test_tideward_fake';
@@ -434,7 +435,7 @@ export function stripeHandlers(engine: FakeEngine, store: FakeStore): HttpHandle
 				status = error.status;
 				body = { error: error.body };
 			} else {
-				console.error('Local payment service: unexpected error', error);
+				log().error({ err: error }, 'local payment service: unexpected error');
 				status = 500;
 				body = {
 					error: {

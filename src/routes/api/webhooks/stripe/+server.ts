@@ -4,6 +4,7 @@ import { z } from 'zod';
 import { stripe, webhookSecret } from '$lib/server/payments/client';
 import { applyEvent } from '$lib/server/payments/events';
 import type { RequestHandler } from './$types';
+import { log } from '$lib/server/log';
 
 /** What every event has, whatever its type (ids are the processor's, e.g. evt_1Nk…). */
 const eventEnvelope = z.object({
@@ -37,7 +38,10 @@ export const POST: RequestHandler = async ({ request }) => {
 		const outcome = await applyEvent(event);
 		return json({ received: true, outcome });
 	} catch (error) {
-		console.error(`Applying ${event.type} ${event.id} failed:`, error);
+		log().error(
+			{ err: error, eventType: event.type, eventId: event.id },
+			'applying a payment event failed'
+		);
 		return json({ error: 'The event could not be applied; please retry.' }, { status: 500 });
 	}
 };
