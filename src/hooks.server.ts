@@ -1,7 +1,6 @@
 import { building } from '$app/environment';
 import type { Handle, HandleServerError, ServerInit } from '@sveltejs/kit';
 import { sequence } from '@sveltejs/kit/hooks';
-import { randomUUID } from 'node:crypto';
 import { ensureFirstAdmin } from '$lib/server/auth/bootstrap';
 import { readSession } from '$lib/server/auth/session';
 import { closeDatabase, openDatabase } from '$lib/server/db';
@@ -20,6 +19,7 @@ import { cachePublicAnswers } from '$lib/server/public-answers';
 import { securityHeaders } from '$lib/server/security-headers';
 import { compressResponses } from '$lib/server/compression';
 import { refuseUnreadableRequests } from '$lib/server/request-guard';
+import { log, logRequests } from '$lib/server/log';
 
 export const init: ServerInit = async () => {
 	if (building) return;
@@ -89,11 +89,6 @@ export const init: ServerInit = async () => {
 	});
 };
 
-const requestId: Handle = ({ event, resolve }) => {
-	event.locals.requestId = event.request.headers.get('x-request-id') ?? randomUUID();
-	return resolve(event);
-};
-
 const session: Handle = async ({ event, resolve }) => {
 	const { user, session } = await readSession(event.cookies, event.url);
 	event.locals.user = user;
@@ -109,13 +104,13 @@ const preloadFonts: Handle = ({ event, resolve }) =>
 // A NUL in the address or an address over 8 KB is refused before any step (the session lookup
 // included) takes its values to the database.
 export const handle = sequence(
-	// Outermost, so that it compresses the answer every other step has finished.
+	logRequests,
+	// Outside every other step, so that it compresses the answer they have finished.
 	compressResponses,
 	// Around every later step, so that every answer has them, refused form posts included.
 	securityHeaders,
 	refuseUnreadableRequests,
 	sameOriginForms,
-	requestId,
 	forgetPublicReadsAfterWrites,
 	cachePublicAnswers,
 	session,
@@ -123,7 +118,7 @@ export const handle = sequence(
 );
 
 export const handleError: HandleServerError = ({ error, event, status }) => {
-	if (status >= 500) console.error(`[${event.locals.requestId}]`, error);
+	if (status >= 500) log().error({ err: error, status, route: event.route.id }, 'request failed');
 	return {
 		message: status >= 500 ? 'Something went wrong on our side. Please try again.' : 'Not found.'
 	};
