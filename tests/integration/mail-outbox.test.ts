@@ -199,12 +199,34 @@ describe('runOutboxOnce', () => {
 		for (let n = 1; n <= count; n++) await enqueueMail(db(), mail(n));
 		const ids = (await db().select({ id: outbox.messageId }).from(outbox)).map((r) => r.id);
 
+		// Each worker's first send waits until the other worker has claimed a batch too, so two
+		// leases are held at once whatever the scheduling: on a PostgreSQL server one worker could
+		// otherwise send everything before the other's connection is open.
+		let waiting = 0;
+		let release!: () => void;
+		const bothClaimed = new Promise<void>((resolve) => (release = resolve));
 		async function worker() {
+			let first = true;
+			const transport = {
+				sendMail: async (message: unknown) => {
+					if (first) {
+						first = false;
+						if (++waiting === 2) release();
+						await bothClaimed;
+					}
+					return toStub.sendMail(message as never);
+				}
+			} as unknown as MailTransport;
 			let sent = 0;
-			for (;;) {
-				const result = await run({ transport: toStub, batchSize: 3 });
-				sent += result.sent;
-				if (result.claimed === 0) return sent;
+			try {
+				for (;;) {
+					const result = await run({ transport, batchSize: 3 });
+					sent += result.sent;
+					if (result.claimed === 0) return sent;
+				}
+			} finally {
+				// A worker that found nothing to claim must not keep the other one waiting.
+				release();
 			}
 		}
 		const [a, b] = await Promise.all([worker(), worker()]);

@@ -25,13 +25,29 @@ export function parsePositions(
 	options: ParseOptions
 ): AsyncGenerator<ParseItem, void, undefined> {
 	const rules = { now: options.now, defaultClass: options.defaultClass };
+	// The parsers listen to `source` from their first step, and the caller may await a database
+	// round trip before that (importPositions opens its transaction first). An upload cut off in
+	// between would be an 'error' event with no listener, which ends the process; keep it
+	// instead, and throw it from the first step.
+	source.on('error', () => {});
 	switch (options.format) {
 		case 'csv':
 			if (!options.mapping) throw new TypeError('parsePositions: a CSV import needs a mapping');
-			return parseCsv(source, { ...rules, mapping: options.mapping, delimiter: options.delimiter });
+			return failedEarly(
+				source,
+				parseCsv(source, { ...rules, mapping: options.mapping, delimiter: options.delimiter })
+			);
 		case 'geojson':
-			return parseGeoJson(source, rules);
+			return failedEarly(source, parseGeoJson(source, rules));
 		case 'gpx':
-			return parseGpx(source, rules);
+			return failedEarly(source, parseGpx(source, rules));
 	}
+}
+
+async function* failedEarly(
+	source: Readable,
+	items: AsyncGenerator<ParseItem, void, undefined>
+): AsyncGenerator<ParseItem, void, undefined> {
+	if (source.errored) throw source.errored;
+	yield* items;
 }
