@@ -76,6 +76,21 @@ export function pgConnection(databaseUrl) {
 	return { url: url.toString(), env };
 }
 
+/**
+ * A connected client for DATABASE_URL, or a stop with one line saying why not.
+ * @param {string} databaseUrl
+ */
+export async function connectPostgres(databaseUrl) {
+	const { default: pg } = await import('pg');
+	const client = new pg.Client({ connectionString: databaseUrl });
+	try {
+		await client.connect();
+	} catch (error) {
+		stop(`Cannot connect to DATABASE_URL: ${/** @type {Error} */ (error).message}`);
+	}
+	return client;
+}
+
 /** @param {string} tool @returns {string} its version line */
 export function requireTool(tool) {
 	const probe = spawnSync(tool, ['--version'], { encoding: 'utf8' });

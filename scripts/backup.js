@@ -32,7 +32,8 @@ import {
 	runScript,
 	size,
 	stop,
-	totalRows
+	totalRows,
+	connectPostgres
 } from './backup-archive.js';
 
 /** @param {Date} date */
@@ -91,13 +92,7 @@ async function backupPglite(dataDir) {
 /** @param {string} databaseUrl @param {string} dataDir */
 async function backupPostgres(databaseUrl, dataDir) {
 	const pgDump = requireTool('pg_dump');
-	const { default: pg } = await import('pg');
-	const client = new pg.Client({ connectionString: databaseUrl });
-	try {
-		await client.connect();
-	} catch (error) {
-		stop(`Cannot connect to DATABASE_URL: ${/** @type {Error} */ (error).message}`);
-	}
+	const client = await connectPostgres(databaseUrl);
 	const temp = join(tmpdir(), `tideward-backup-${process.pid}.pgdump`);
 	try {
 		// The counts and the dump see the same moment: pg_dump joins this transaction's snapshot.

@@ -31,7 +31,8 @@ import {
 	Stop,
 	stop,
 	totalRows,
-	unpackArchive
+	unpackArchive,
+	connectPostgres
 } from './backup-archive.js';
 
 const USAGE = 'Usage: npm run restore -- <backup file> [--force]';
@@ -137,13 +138,7 @@ async function restorePglite(entries, manifest, dataDir, force) {
  */
 async function restorePostgres(entries, manifest, databaseUrl, dataDir, force) {
 	requireTool('pg_restore');
-	const { default: pg } = await import('pg');
-	const client = new pg.Client({ connectionString: databaseUrl });
-	try {
-		await client.connect();
-	} catch (error) {
-		stop(`Cannot connect to DATABASE_URL: ${/** @type {Error} */ (error).message}`);
-	}
+	const client = await connectPostgres(databaseUrl);
 	const temp = join(tmpdir(), `tideward-restore-${process.pid}.pgdump`);
 	try {
 		const tables = Object.keys(await countRows(client));
